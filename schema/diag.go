@@ -1,0 +1,79 @@
+package schema
+
+import (
+	"fmt"
+	"strings"
+)
+
+// Severity says whether a Diagnostic makes a card invalid.
+type Severity int
+
+const (
+	SeverityError Severity = iota
+	SeverityWarning
+)
+
+func (s Severity) String() string {
+	if s == SeverityWarning {
+		return "warning"
+	}
+	return "error"
+}
+
+// Pos is a position in a source file; Line and Column count from 1, and a
+// zero Line means unknown.
+type Pos struct {
+	Line   int `json:"line"`
+	Column int `json:"column"`
+}
+
+// Diagnostic is one located problem with a card.
+type Diagnostic struct {
+	File     string   `json:"file"`
+	Pos      Pos      `json:"pos"`
+	Pointer  string   `json:"pointer"`         // JSON pointer (RFC 6901) of the offending value; "" for the whole document
+	Value    string   `json:"value,omitempty"` // the offending value, shortened, as written
+	Message  string   `json:"message"`         // one plain sentence
+	Severity Severity `json:"-"`
+}
+
+// String formats d as file:line:col: /pointer: message, the form editors and
+// CI annotate.
+func (d Diagnostic) String() string {
+	var b strings.Builder
+	b.WriteString(d.File)
+	if d.Pos.Line > 0 {
+		fmt.Fprintf(&b, ":%d:%d", d.Pos.Line, d.Pos.Column)
+	}
+	b.WriteString(": ")
+	if d.Severity == SeverityWarning {
+		b.WriteString("warning: ")
+	}
+	if d.Pointer != "" {
+		b.WriteString(d.Pointer)
+		b.WriteString(": ")
+	}
+	b.WriteString(d.Message)
+	return b.String()
+}
+
+// Diagnostics is a list of problems; as an error it reports all of them.
+type Diagnostics []Diagnostic
+
+func (ds Diagnostics) Error() string {
+	lines := make([]string, len(ds))
+	for i, d := range ds {
+		lines[i] = d.String()
+	}
+	return strings.Join(lines, "\n")
+}
+
+// HasErrors reports whether any diagnostic is an error (not a warning).
+func (ds Diagnostics) HasErrors() bool {
+	for _, d := range ds {
+		if d.Severity == SeverityError {
+			return true
+		}
+	}
+	return false
+}
