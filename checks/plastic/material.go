@@ -1,0 +1,235 @@
+package plastic
+
+import (
+	"fmt"
+	"math"
+)
+
+// MaxTerms is the largest number of back-stress terms a Material holds. The
+// arrays are fixed-size so that states are plain values and steps do not
+// allocate.
+const MaxTerms = 10
+
+// Term is one back-stress term. An Armstrong-Frederick term has C > 0 and
+// Gamma > 0 (saturation C/Gamma); a linear (Prager) term has Gamma = 0 and
+// C = H, the plastic modulus, H = E Et / (E - Et) for a tangent modulus Et.
+//
+// Uniaxial evolution (3D form in the package documentation):
+//
+//	d alpha_i = C d eps_p - Gamma alpha_i |d eps_p|
+type Term struct {
+	C     float64 // Pa
+	Gamma float64 // dimensionless
+}
+
+// Linear reports whether t is a linear (Prager) term.
+func (t Term) Linear() bool { return t.Gamma == 0 }
+
+// IsoKind selects the isotropic hardening law.
+type IsoKind int
+
+// Isotropic hardening laws.
+const (
+	IsoNone   IsoKind = iota // R(p) = 0
+	IsoLinear                // R(p) = K p
+	IsoVoce                  // R(p) = Q (1 - exp(-B p))
+)
+
+// String returns the name of the law.
+func (k IsoKind) String() string {
+	switch k {
+	case IsoNone:
+		return "none"
+	case IsoLinear:
+		return "linear"
+	case IsoVoce:
+		return "voce"
+	}
+	return fmt.Sprintf("IsoKind(%d)", int(k))
+}
+
+// Isotropic is the isotropic hardening law R(p) of the accumulated plastic
+// strain p. Only the fields of the selected Kind are used and the others
+// must be zero.
+type Isotropic struct {
+	Kind IsoKind
+	K    float64 // IsoLinear: modulus, Pa, K >= 0
+	Q    float64 // IsoVoce: saturation, Pa; Q < 0 is cyclic softening, needs SigmaY + Q > 0
+	B    float64 // IsoVoce: rate, dimensionless, B > 0
+}
+
+// Material is a validated elastic-plastic material. Build it with
+// NewMaterial; the zero value is not usable and a Material must not be
+// modified after construction (the steps read cached derived values).
+type Material struct {
+	E      float64 // Young's modulus, Pa
+	Nu     float64 // Poisson ratio
+	SigmaY float64 // initial yield stress, Pa
+	N      int     // number of back-stress terms in Terms
+	Terms  [MaxTerms]Term
+	Iso    Isotropic
+
+	// Derived, cached by NewMaterial.
+	g, bulk float64 // shear and bulk modulus
+	hLin    float64 // sum of C over linear terms
+	nAF     int
+	af      [MaxTerms]int8 // indices of Armstrong-Frederick terms
+	nLin    int
+	lin     [MaxTerms]int8 // indices of linear terms
+	linear  bool           // no AF term and no Voce: consistency is linear in dp
+	valid   bool
+}
+
+// MaterialError says which parameter of a material is invalid and why.
+type MaterialError struct {
+	Field  string  // e.g. "E", "Terms[1].Gamma", "Iso.Q"
+	Value  float64 // the offending value
+	Reason string
+}
+
+func (e *MaterialError) Error() string {
+	return fmt.Sprintf("plastic: invalid material: %s = %g: %s", e.Field, e.Value, e.Reason)
+}
+
+// NewMaterial validates the parameters and returns the Material. An invalid
+// parameter is reported as a *MaterialError (the first one found; card-level
+// validation reporting every error belongs to the card checks).
+//
+// Preconditions checked: E > 0 and finite; 0 <= nu < 0.5; 0 < sigmaY; at most
+// MaxTerms terms, each with C > 0 and Gamma >= 0; K >= 0; B > 0,
+// sigmaY + Q > 0 and E + Q B > 0 for Voce (the last keeps the consistency
+// condition solvable for a softening law, since the plastic modulus is never
+// below Q B).
+func NewMaterial(E, nu, sigmaY float64, terms []Term, iso Isotropic) (Material, error) {
+	var m Material
+	bad := func(field string, v float64, why string) (Material, error) {
+		return Material{}, &MaterialError{Field: field, Value: v, Reason: why}
+	}
+	finite := func(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+	switch {
+	case !finite(E) || E <= 0:
+		return bad("E", E, "must be positive and finite")
+	case !finite(nu) || nu < 0 || nu >= 0.5:
+		return bad("Nu", nu, "must be in [0, 0.5)")
+	case !finite(sigmaY) || sigmaY <= 0:
+		return bad("SigmaY", sigmaY, "must be positive and finite")
+	case len(terms) > MaxTerms:
+		return bad("len(Terms)", float64(len(terms)), fmt.Sprintf("at most %d terms", MaxTerms))
+	}
+	m.E, m.Nu, m.SigmaY = E, nu, sigmaY
+	for i, t := range terms {
+		if !finite(t.C) || t.C <= 0 {
+			return bad(fmt.Sprintf("Terms[%d].C", i), t.C, "must be positive and finite")
+		}
+		if !finite(t.Gamma) || t.Gamma < 0 {
+			return bad(fmt.Sprintf("Terms[%d].Gamma", i), t.Gamma, "must be >= 0 and finite (0 is a linear term)")
+		}
+		m.Terms[i] = t
+		if t.Linear() {
+			m.lin[m.nLin] = int8(i)
+			m.nLin++
+			m.hLin += t.C
+		} else {
+			m.af[m.nAF] = int8(i)
+			m.nAF++
+		}
+	}
+	m.N = len(terms)
+	switch iso.Kind {
+	case IsoNone:
+		if iso.K != 0 || iso.Q != 0 || iso.B != 0 {
+			return bad("Iso", iso.K+iso.Q+iso.B, "parameters given without a law")
+		}
+	case IsoLinear:
+		if !finite(iso.K) || iso.K < 0 {
+			return bad("Iso.K", iso.K, "must be >= 0 and finite")
+		}
+		if iso.Q != 0 || iso.B != 0 {
+			return bad("Iso.Q", iso.Q, "Q and B belong to the Voce law")
+		}
+	case IsoVoce:
+		switch {
+		case !finite(iso.Q):
+			return bad("Iso.Q", iso.Q, "must be finite")
+		case !finite(iso.B) || iso.B <= 0:
+			return bad("Iso.B", iso.B, "must be positive and finite")
+		case sigmaY+iso.Q <= 0:
+			return bad("Iso.Q", iso.Q, "SigmaY + Q must be positive (the yield surface must not vanish)")
+		case E+iso.Q*iso.B <= 0:
+			return bad("Iso.Q", iso.Q, "E + Q B must be positive (softening faster than elastic unloading)")
+		case iso.K != 0:
+			return bad("Iso.K", iso.K, "K belongs to the linear law")
+		}
+	default:
+		return bad("Iso.Kind", float64(iso.Kind), "unknown isotropic law")
+	}
+	m.Iso = iso
+	m.g = E / (2 * (1 + nu))
+	m.bulk = E / (3 * (1 - 2*nu))
+	m.linear = m.nAF == 0 && iso.Kind != IsoVoce
+	m.valid = true
+	return m, nil
+}
+
+// ShearModulus returns G = E / (2 (1 + nu)).
+func (m *Material) ShearModulus() float64 { return m.g }
+
+// BulkModulus returns K = E / (3 (1 - 2 nu)).
+func (m *Material) BulkModulus() float64 { return m.bulk }
+
+// R returns the isotropic hardening R(p).
+func (m *Material) R(p float64) float64 {
+	switch m.Iso.Kind {
+	case IsoLinear:
+		return m.Iso.K * p
+	case IsoVoce:
+		return m.Iso.Q * -math.Expm1(-m.Iso.B*p)
+	}
+	return 0
+}
+
+// rDeriv returns R(p), R'(p) and R”(p).
+func (m *Material) rDeriv(p float64) (r, r1, r2 float64) {
+	switch m.Iso.Kind {
+	case IsoLinear:
+		return m.Iso.K * p, m.Iso.K, 0
+	case IsoVoce:
+		e := math.Exp(-m.Iso.B * p)
+		qb := m.Iso.Q * m.Iso.B
+		return m.Iso.Q * (1 - e), qb * e, -qb * m.Iso.B * e
+	}
+	return 0, 0, 0
+}
+
+// YieldRadius returns the uniaxial yield stress sigmaY + R(p) at accumulated
+// plastic strain p.
+func (m *Material) YieldRadius(p float64) float64 { return m.SigmaY + m.R(p) }
+
+// SaturationStress returns the stress that monotonic uniaxial loading
+// approaches from any admissible state,
+//
+//	sigma_sat = sigmaY + sum_i C_i/gamma_i + Q   (Q = 0 without Voce),
+//
+// or +Inf when a linear term or linear isotropic hardening with K > 0 makes
+// the stress unbounded. With Q < 0 the stress may pass above sigma_sat on the
+// way (a peak, then softening); sigma_sat is still the limit.
+func (m *Material) SaturationStress() float64 {
+	if m.nLin > 0 || (m.Iso.Kind == IsoLinear && m.Iso.K > 0) {
+		return math.Inf(1)
+	}
+	s := m.SigmaY
+	for j := 0; j < m.nAF; j++ {
+		t := m.Terms[m.af[j]]
+		s += t.C / t.Gamma
+	}
+	if m.Iso.Kind == IsoVoce {
+		s += m.Iso.Q
+	}
+	return s
+}
+
+func (m *Material) mustBeValid() {
+	if !m.valid {
+		panic("plastic: Material not built by NewMaterial")
+	}
+}
