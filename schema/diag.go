@@ -20,8 +20,9 @@ func (s Severity) String() string {
 	return "error"
 }
 
-// Pos is a position in a source file; Line and Column count from 1, and a
-// zero Line means unknown.
+// Pos is a position in a source file; Line and Column count from 1 (Column
+// in characters, not bytes), a zero Line means unknown and a zero Column
+// means the column is unknown.
 type Pos struct {
 	Line   int `json:"line"`
 	Column int `json:"column"`
@@ -42,8 +43,11 @@ type Diagnostic struct {
 func (d Diagnostic) String() string {
 	var b strings.Builder
 	b.WriteString(d.File)
-	if d.Pos.Line > 0 {
+	switch {
+	case d.Pos.Line > 0 && d.Pos.Column > 0:
 		fmt.Fprintf(&b, ":%d:%d", d.Pos.Line, d.Pos.Column)
+	case d.Pos.Line > 0: // the column is unknown (some YAML syntax errors)
+		fmt.Fprintf(&b, ":%d", d.Pos.Line)
 	}
 	b.WriteString(": ")
 	if d.Severity == SeverityWarning {
