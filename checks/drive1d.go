@@ -1,0 +1,253 @@
+package checks
+
+import (
+	"context"
+	"fmt"
+	"math"
+
+	"matgate/checks/plastic"
+)
+
+// pt is one recorded uniaxial state.
+type pt struct {
+	eps, sigma, epsP, alpha, p float64
+	plastic                    bool
+}
+
+type histPt struct {
+	st      plastic.State1D
+	plastic bool
+}
+
+// invariants collects the per-increment invariants of a path.
+type invariants struct {
+	plasticSteps int
+	maxYield     float64 // max |f| / (sigmaY + R) after plastic increments
+	maxScale     float64 // max (|sigma| + |alpha| + k)/k, for the round-off bound
+	maxDEps      float64 // largest increment of strain (E dEps / k bounds the iteration residual)
+	minDiss      float64 // min dD/dp over plastic increments, Pa
+	minTangent   float64 // smallest consistent tangent on the path, Pa
+	diss         float64 // total dissipation, J/m^3
+	// elastic unloading: the first elastic increment after each reversal
+	slopes []slope
+}
+
+type slope struct {
+	value, ref, tol float64
+}
+
+// path1D drives Step1D and records every state.
+type path1D struct {
+	ctx         context.Context
+	m           *plastic.Material
+	set         *plastic.Settings
+	dTol        float64 // driver tolerance, relative to sigmaY
+	st          plastic.State1D
+	pts         []pt
+	tips        []int // indices of the end points of the branches
+	inv         invariants
+	n           int // increments
+	lastTangent float64
+
+	keep bool     // append every state to hist
+	hist []histPt //
+
+	dir    float64 // sign of the current branch
+	unload bool    // waiting for the first increment of a new branch
+}
+
+func newPath1D(ctx context.Context, m *plastic.Material, set *plastic.Settings, dTol float64, capacity int) *path1D {
+	d := &path1D{ctx: ctx, m: m, set: set, dTol: dTol, pts: make([]pt, 1, capacity+1)}
+	d.inv.minDiss = math.Inf(1)
+	d.inv.minTangent = math.Inf(1)
+	return d
+}
+
+func (d *path1D) record() {
+	s := &d.st
+	d.pts = append(d.pts, pt{s.Eps, s.Sigma, s.EpsP, s.BackStress(d.m.N), s.P, false})
+}
+
+// step integrates one strain increment and updates the invariants.
+func (d *path1D) step(dEps float64) (plastic.StepInfo, error) {
+	if d.n&31 == 0 {
+		if err := d.ctx.Err(); err != nil {
+			return plastic.StepInfo{}, fmt.Errorf("%w: %w", ErrCanceled, err)
+		}
+	}
+	m := d.m
+	prev := d.st
+	info, err := m.Step1D(&d.st, &prev, dEps, d.set)
+	if err != nil {
+		return info, fmt.Errorf("increment %d at strain %g: %w", d.n, prev.Eps, err)
+	}
+	d.n++
+	s := &d.st
+	k := m.YieldRadius(s.P)
+	alpha := s.BackStress(m.N)
+	d.inv.maxScale = math.Max(d.inv.maxScale, (math.Abs(s.Sigma)+math.Abs(alpha)+k)/k)
+	d.inv.maxDEps = math.Max(d.inv.maxDEps, math.Abs(dEps))
+	if info.Plastic {
+		d.inv.plasticSteps++
+		d.inv.maxYield = math.Max(d.inv.maxYield, math.Abs(m.Yield1D(s))/k)
+		diss := m.Dissipation1D(&prev, s)
+		d.inv.diss += diss
+		if info.DP > 0 {
+			d.inv.minDiss = math.Min(d.inv.minDiss, diss/info.DP)
+		}
+	} else if d.unload && dEps != 0 {
+		// Hooke: the first elastic increment of a branch has slope E. The
+		// bound is the round-off of the two differences, 4u (|a|+|b|)/|b-a|
+		// each, times 2 for the division.
+		dS, dE := s.Sigma-prev.Sigma, s.Eps-prev.Eps
+		tol := 8*u*(math.Abs(s.Sigma)+math.Abs(prev.Sigma))/math.Abs(dS) + 8*u*(math.Abs(s.Eps)+math.Abs(prev.Eps))/math.Abs(dE)
+		d.inv.slopes = append(d.inv.slopes, slope{dS / dE, m.E, tol})
+	}
+	d.unload = false
+	d.record()
+	d.pts[len(d.pts)-1].plastic = info.Plastic
+	if d.keep {
+		d.hist = append(d.hist, histPt{d.st, info.Plastic})
+	}
+	d.lastTangent = info.Tangent
+	d.inv.minTangent = math.Min(d.inv.minTangent, info.Tangent)
+	return info, nil
+}
+
+func (d *path1D) turn(dir float64) {
+	if d.dir != 0 && dir != d.dir {
+		d.tips = append(d.tips, len(d.pts)-1)
+		d.unload = true
+	}
+	d.dir = dir
+}
+
+// strainTo drives the strain to target in n equal increments, n the
+// smallest even number with increments no larger than h and at least
+// minInc increments.
+func (d *path1D) strainTo(target, h float64, minInc int) error {
+	e0 := d.st.Eps
+	span := target - e0
+	if span == 0 {
+		return nil
+	}
+	d.turn(math.Copysign(1, span))
+	n := int(math.Ceil(math.Abs(span) / h))
+	n = max(n, minInc)
+	n += n & 1
+	for i := 1; i <= n; i++ {
+		e := e0 + span*float64(i)/float64(n)
+		if i == n {
+			e = target
+		}
+		if _, err := d.step(e - d.st.Eps); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// stressTo drives the stress to target in increments no larger than h
+// (Pa), each solved for its strain increment by a bracketed Newton
+// iteration on Step1D with its consistent tangent, to d.dTol sigmaY.
+func (d *path1D) stressTo(target, h float64) error {
+	s0 := d.st.Sigma
+	span := target - s0
+	if span == 0 {
+		return nil
+	}
+	d.turn(math.Copysign(1, span))
+	n := max(int(math.Ceil(math.Abs(span)/h)), 1)
+	tol := d.dTol * d.m.SigmaY
+	for i := 1; i <= n; i++ {
+		sig := s0 + span*float64(i)/float64(n)
+		if i == n {
+			sig = target
+		}
+		dEps, err := d.solveStress(sig, tol)
+		if err != nil {
+			return err
+		}
+		if _, err := d.step(dEps); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// solveStress returns the strain increment from the current state that
+// reaches the stress sig within tol. The stress is increasing in the strain
+// increment (plastic modulus > -E); the root is kept in a bracket and
+// Newton steps that leave it are replaced by bisection.
+func (d *path1D) solveStress(sig, tol float64) (float64, error) {
+	m := d.m
+	var trial plastic.State1D
+	x := (sig - d.st.Sigma) / m.E
+	lo, hi := math.Inf(-1), math.Inf(1)
+	for it := 0; it < 100; it++ {
+		info, err := m.Step1D(&trial, &d.st, x, d.set)
+		if err != nil {
+			return 0, fmt.Errorf("stress target %g Pa at strain %g: %w", sig, d.st.Eps, err)
+		}
+		r := trial.Sigma - sig
+		if math.Abs(r) <= tol {
+			return x, nil
+		}
+		if r < 0 {
+			lo = x
+		} else {
+			hi = x
+		}
+		next := x - r/info.Tangent
+		if !(next > lo && next < hi) {
+			switch {
+			case math.IsInf(hi, 1):
+				next = x + 2*math.Abs(x-lo) + tol/m.E
+			case math.IsInf(lo, -1):
+				next = x - 2*math.Abs(hi-x) - tol/m.E
+			default:
+				next = lo + (hi-lo)/2
+			}
+		}
+		x = next
+	}
+	return 0, fmt.Errorf("stress target %g Pa at strain %g: %w", sig, d.st.Eps, plastic.ErrNotConverged)
+}
+
+// downsample returns at most max samples of pts, evenly strided, keeping
+// the first and the last.
+func downsample[T any](pts []T, limit int, conv func(*T) Sample) []Sample {
+	if len(pts) == 0 {
+		return nil
+	}
+	stride := (len(pts) + limit - 2) / (limit - 1)
+	stride = max(stride, 1)
+	out := make([]Sample, 0, len(pts)/stride+2)
+	for i := 0; i < len(pts); i += stride {
+		out = append(out, conv(&pts[i]))
+	}
+	if (len(pts)-1)%stride != 0 {
+		out = append(out, conv(&pts[len(pts)-1]))
+	}
+	return out
+}
+
+const maxSeries = 400
+
+func (d *path1D) series() []Sample {
+	return downsample(d.pts, maxSeries, func(p *pt) Sample {
+		return Sample{Strain: p.eps, Stress: p.sigma, PlasticStr: p.epsP, BackStress: p.alpha, P: p.p}
+	})
+}
+
+// trapezoid returns the integral of sigma d eps over pts[i:j+1] with
+// every point and with every second point (j - i even).
+func trapezoid(pts []pt, i, j int) (w1, w2 float64) {
+	for k := i; k < j; k++ {
+		w1 += (pts[k].sigma + pts[k+1].sigma) / 2 * (pts[k+1].eps - pts[k].eps)
+	}
+	for k := i; k+2 <= j; k += 2 {
+		w2 += (pts[k].sigma + pts[k+2].sigma) / 2 * (pts[k+2].eps - pts[k].eps)
+	}
+	return w1, w2
+}

@@ -1,0 +1,117 @@
+package checks
+
+import (
+	"fmt"
+	"math"
+
+	"matgate/checks/plastic"
+)
+
+// A profile fixes the numerical settings of the cases. Tolerances are not
+// part of it: every tolerance is computed from these settings and from the
+// size of the compared quantities by the error model below, so a stricter
+// profile (finer increments, tighter iteration tolerances) gets tighter
+// tolerances wherever discretization or iteration error enters, and the
+// same round-off bound where it does not.
+//
+// Error model (the rationale carried in every check's ToleranceBasis):
+//
+//   - Step1D with the Exact algorithm is the exact solution of the 1D rate
+//     equations for a monotone strain increment (plastic package
+//     documentation), so strain-controlled 1D results do not depend on the
+//     increment. What remains is the stopping rule of its scalar iteration
+//     (a change of dp below 1e-14 dp) and round-off: stepRel = 1e-14
+//     relative per increment, accumulated at worst linearly over the n
+//     increments of a case, plus 32 units of round-off (2^-53) for the
+//     evaluation of the closed form itself. roundTol(n) = 1e-14 n + 32u.
+//   - Stress control solves each increment's stress to DriverTol sigmaY; the
+//     strain it reports is then off by at most DriverTol sigmaY / Et, Et the
+//     consistent tangent at the target.
+//   - 3D Exact on a non-proportional increment is substepped until the full
+//     and two half steps agree within SubstepTol sigmaY (local error); over
+//     n increments the global error is at most n SubstepTol sigmaY.
+//   - Loop areas by the trapezoid rule have an O(h^2) error; it is
+//     estimated from the same path by Richardson's rule, comparing the rule
+//     on every point with the rule on every second point:
+//     e(h) ~ (W(2h) - W(h)) / 3.
+type profile struct {
+	name string
+	// incPerYield: the strain increment is sigmaY / E / incPerYield, the
+	// stress increment sigmaY / incPerYield.
+	incPerYield float64
+	// incPerBranch: at least this many increments per branch of a cycle
+	// (resolution of the loop area and of the plotted loop).
+	incPerBranch int
+	// angleInc: increments per cycle of the tension-torsion circle.
+	angleInc   int
+	substepTol float64
+	driverTol  float64
+}
+
+var profiles = map[string]profile{
+	// standard: the yield strain in 10 increments, 40 increments a branch,
+	// 5-degree increments on the tension-torsion circle; the integrator's
+	// default iteration tolerances.
+	"standard": {name: "standard", incPerYield: 10, incPerBranch: 40, angleInc: 72, substepTol: 1e-9, driverTol: 1e-11},
+	// strict: four times finer increments, iteration tolerances 100 times
+	// tighter.
+	"strict": {name: "strict", incPerYield: 40, incPerBranch: 160, angleInc: 288, substepTol: 1e-11, driverTol: 1e-13},
+}
+
+func (p profile) settings() *plastic.Settings {
+	return &plastic.Settings{Algorithm: plastic.Exact, SubstepTol: p.substepTol, DriverTol: p.driverTol}
+}
+
+const (
+	u       = 0x1p-53 // unit round-off of float64
+	stepRel = 1e-14   // stopping rule of the scalar return-mapping iteration, relative
+)
+
+// roundTol is the relative round-off and iteration bound after n exact
+// increments (see the error model above).
+func roundTol(n int) float64 { return stepRel*float64(n) + 32*u }
+
+func roundBasis(n int) string {
+	return fmt.Sprintf("round-off bound of the exact 1D integration over %d increments: 1e-14 per increment (iteration stopping rule) + 32 u for the closed form, u = 2^-53; the exact algorithm has no discretization error under strain control", n)
+}
+
+// transient is the remaining approach of a geometrically converging cycle
+// quantity to its stabilized value: |q_N - q_inf| <= |q_N - q_{N-1}| rho /
+// (1 - rho) for a sequence whose differences shrink by rho per cycle.
+func transient(last, prev, rho float64) float64 {
+	if rho >= 1 {
+		return math.Inf(1)
+	}
+	return math.Abs(last-prev) * rho / (1 - rho)
+}
+
+// contraction returns the per-cycle decay ratio of the slowest transient of
+// m for a plastic strain range dEpsP per branch, exp(-2 min(gamma_i, b)
+// dEpsP), 0 when everything stabilizes in one cycle (linear terms, no
+// isotropic hardening), or 1 when nothing stabilizes (linear isotropic
+// hardening with K > 0). See defaultCycles for the derivation.
+func contraction(m *plastic.Material, dEpsP float64) float64 {
+	if m.Iso.Kind == plastic.IsoLinear && m.Iso.K > 0 {
+		return 1
+	}
+	rho := 0.0
+	for i := 0; i < m.N; i++ {
+		if g := m.Terms[i].Gamma; g > 0 {
+			rho = math.Max(rho, math.Exp(-2*g*dEpsP))
+		}
+	}
+	if m.Iso.Kind == plastic.IsoVoce {
+		rho = math.Max(rho, math.Exp(-2*m.Iso.B*dEpsP))
+	}
+	return rho
+}
+
+// stabilizedLimit is our criterion for applying a stabilized-loop closed
+// form: the bound on the remaining transient must be below 1% of the
+// compared quantity's scale. Our own criterion, no source; the definition
+// of the stabilized cycle itself follows StabilizedCycleDefinition.
+const stabilizedLimit = 0.01
+
+// StabilizedCycleDefinition names the definition of the stabilized cycle
+// that the fully reversed cases follow.
+const StabilizedCycleDefinition = "ASTM E606/E606M (strain-controlled fatigue testing): the stabilized hysteresis loop is the one whose stress amplitude no longer changes with further cycling (definition recalled from memory, the standard was not at hand); a simulation has no failure and so no half-life cycle, so the last of the case's cycles is taken and the closed form is applied only when the remaining transient, bounded from the last two cycles and the card's slowest decay rate, is below 1% of the compared quantity"
