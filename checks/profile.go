@@ -75,35 +75,36 @@ func roundBasis(n int) string {
 	return fmt.Sprintf("round-off bound of the exact 1D integration over %d increments: 1e-14 per increment (iteration stopping rule) + 32 u for the closed form, u = 2^-53; the exact algorithm has no discretization error under strain control", n)
 }
 
-// transient is the remaining approach of a geometrically converging cycle
-// quantity to its stabilized value: |q_N - q_inf| <= |q_N - q_{N-1}| rho /
-// (1 - rho) for a sequence whose differences shrink by rho per cycle.
-func transient(last, prev, rho float64) float64 {
-	if rho >= 1 {
+// memory bounds how far a uniaxial state at accumulated plastic strain p
+// can still be from the stabilized cycle, in Pa, derived here: under a
+// common plastic-strain history two solutions of an Armstrong-Frederick
+// rule d alpha = C d eps_p - gamma alpha dp differ by their initial
+// difference times exp(-gamma p) (subtract the two rules: d(delta) =
+// -gamma delta dp), and the virgin start is at most 2 C/gamma from any
+// admissible back stress (|alpha| <= C/gamma); Voce's R(p) is Q exp(-b p)
+// from its saturation exactly. Linear terms and a missing isotropic law
+// carry no memory. Every stress of the path (sigma = alpha + n k) is then
+// within
+//
+//	sum_AF (2 C_i/gamma_i) exp(-gamma_i p) + |Q| exp(-b p)
+//
+// of the stabilized cycle's. The coupling of the terms through the
+// plastic-strain history is not bounded by this (it changes the history by
+// the same order). Linear isotropic hardening never stabilizes: +Inf.
+func memory(m *plastic.Material, p float64) float64 {
+	if m.Iso.Kind == plastic.IsoLinear && m.Iso.K > 0 {
 		return math.Inf(1)
 	}
-	return math.Abs(last-prev) * rho / (1 - rho)
-}
-
-// contraction returns the per-cycle decay ratio of the slowest transient of
-// m for a plastic strain range dEpsP per branch, exp(-2 min(gamma_i, b)
-// dEpsP), 0 when everything stabilizes in one cycle (linear terms, no
-// isotropic hardening), or 1 when nothing stabilizes (linear isotropic
-// hardening with K > 0). See defaultCycles for the derivation.
-func contraction(m *plastic.Material, dEpsP float64) float64 {
-	if m.Iso.Kind == plastic.IsoLinear && m.Iso.K > 0 {
-		return 1
-	}
-	rho := 0.0
+	s := 0.0
 	for i := 0; i < m.N; i++ {
-		if g := m.Terms[i].Gamma; g > 0 {
-			rho = math.Max(rho, math.Exp(-2*g*dEpsP))
+		if t := m.Terms[i]; !t.Linear() {
+			s += 2 * t.C / t.Gamma * math.Exp(-t.Gamma*p)
 		}
 	}
 	if m.Iso.Kind == plastic.IsoVoce {
-		rho = math.Max(rho, math.Exp(-2*m.Iso.B*dEpsP))
+		s += math.Abs(m.Iso.Q) * math.Exp(-m.Iso.B*p)
 	}
-	return rho
+	return s
 }
 
 // stabilizedLimit is our criterion for applying a stabilized-loop closed
@@ -114,4 +115,4 @@ const stabilizedLimit = 0.01
 
 // StabilizedCycleDefinition names the definition of the stabilized cycle
 // that the fully reversed cases follow.
-const StabilizedCycleDefinition = "ASTM E606/E606M (strain-controlled fatigue testing): the stabilized hysteresis loop is the one whose stress amplitude no longer changes with further cycling (definition recalled from memory, the standard was not at hand); a simulation has no failure and so no half-life cycle, so the last of the case's cycles is taken and the closed form is applied only when the remaining transient, bounded from the last two cycles and the card's slowest decay rate, is below 1% of the compared quantity"
+const StabilizedCycleDefinition = "ASTM E606/E606M (strain-controlled fatigue testing): the stabilized hysteresis loop is the one whose stress amplitude no longer changes with further cycling (definition recalled from memory, the standard was not at hand); a simulation has no failure and so no half-life cycle, so the last of the case's cycles is taken, and a stabilized-loop closed form is applied only when the bound on the remaining memory of the virgin state (Armstrong-Frederick terms exp(-gamma p), Voce exp(-b p)) is below 1% of the compared quantity"

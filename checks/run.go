@@ -75,6 +75,14 @@ func (v *verifier) cases() []caseSpec {
 	for _, a := range v.spec.StrainAmplitudes {
 		cs = append(cs, caseSpec{name: "cyclic-" + fmtG(a), fn: v.cyclic(a)})
 	}
+	if r := v.spec.Ratcheting; r == nil {
+		cs = append(cs, caseSpec{name: "ratcheting", kind: "stress-controlled-ratcheting", loading: "stress-controlled cycling with a mean stress", skip: "the spec gives no ratcheting loading (mean stress, stress amplitude)"})
+	} else if v.m.N == 0 {
+		cs = append(cs, caseSpec{name: "ratcheting", kind: "stress-controlled-ratcheting", loading: "stress-controlled cycling with a mean stress", skip: "the card has no kinematic hardening: ratcheting is not defined by it"})
+	} else {
+		cs = append(cs, caseSpec{name: "ratcheting", fn: v.ratcheting})
+	}
+	cs = append(cs, caseSpec{name: "mean-strain-relaxation", fn: v.relaxation})
 	return cs
 }
 

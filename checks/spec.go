@@ -39,8 +39,9 @@ type Spec struct {
 	Ratcheting *Ratcheting
 
 	// Relaxation is the mean-strain relaxation case. Nil: mean strain and
-	// strain amplitude both 2 times the yield strain (a cycle from 0 to 4
-	// yield strains), Cycles cycles.
+	// strain amplitude both the first of StrainAmplitudes (a cycle from 0 to
+	// twice it, so the loop is that of the first fully reversed case moved
+	// by its amplitude), Cycles cycles.
 	Relaxation *Relaxation
 
 	// References are the card's recorded uniaxial curves.
@@ -148,7 +149,8 @@ func (s Spec) Resolve() (Spec, error) {
 		return bad("Cycles", float64(s.Cycles), "must be in [2, 10000]")
 	}
 	if s.Relaxation == nil {
-		s.Relaxation = &Relaxation{MeanStrain: 2 * epsY, StrainAmplitude: 2 * epsY}
+		a := s.StrainAmplitudes[0]
+		s.Relaxation = &Relaxation{MeanStrain: a, StrainAmplitude: a}
 	} else {
 		r := *s.Relaxation
 		s.Relaxation = &r
