@@ -143,7 +143,7 @@ func Decode(file string, data []byte, opts *DecodeOptions) (*Document, error) {
 		limit = opts.MaxBytes
 	}
 	if int64(len(data)) > limit {
-		b.errorf(Pos{}, "", "the file is larger than the limit of %d bytes (%s): a card is a few kilobytes; is this the right file?", limit, byteSize(limit))
+		b.errorf(Pos{}, "", "the file is larger than the limit of %s: a card is a few kilobytes; is this the right file?", byteSize(limit))
 		return doc, b.result()
 	}
 	data, ok := b.checkText(data)
@@ -370,9 +370,9 @@ func (b *builder) posAt(data []byte, off int) Pos {
 func byteSize(n int64) string {
 	switch {
 	case n >= 1<<20 && n%(1<<20) == 0:
-		return fmt.Sprintf("%d MiB", n>>20)
+		return fmt.Sprintf("%d bytes (%d MiB)", n, n>>20)
 	case n >= 1<<10 && n%(1<<10) == 0:
-		return fmt.Sprintf("%d KiB", n>>10)
+		return fmt.Sprintf("%d bytes (%d KiB)", n, n>>10)
 	}
 	return fmt.Sprintf("%d bytes", n)
 }

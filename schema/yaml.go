@@ -44,12 +44,33 @@ func (b *builder) parseYAML(data []byte) (any, bool) {
 
 var yamlLineRE = regexp.MustCompile(`^yaml: line ([0-9]+): (.*)$`)
 
+// yamlParserProblems are the parser's (not the scanner's) problems in
+// go.yaml.in/yaml/v3 v3.0.6 (parserc.go). For these its error message gives
+// the 0-based line of the construct being parsed; scanner errors give the
+// 1-based line. Decode adds the missing 1.
+var yamlParserProblems = map[string]bool{
+	"did not find expected ',' or ']'":       true,
+	"did not find expected ',' or '}'":       true,
+	"did not find expected '-' indicator":    true,
+	"did not find expected <document start>": true,
+	"did not find expected <stream-start>":   true,
+	"did not find expected key":              true,
+	"did not find expected node content":     true,
+	"found duplicate %TAG directive":         true,
+	"found duplicate %YAML directive":        true,
+	"found incompatible YAML document":       true,
+	"found undefined tag handle":             true,
+}
+
 // yamlError reports a parse error. go.yaml.in/yaml/v3 gives the line but not
 // the column.
 func (b *builder) yamlError(err error) {
 	msg := err.Error()
 	if m := yamlLineRE.FindStringSubmatch(msg); m != nil {
 		line, _ := strconv.Atoi(m[1])
+		if yamlParserProblems[m[2]] {
+			line++
+		}
 		b.errorf(Pos{Line: line}, "", "YAML syntax error: %s", m[2])
 		return
 	}
