@@ -1,0 +1,223 @@
+package main
+
+import (
+	"crypto/ed25519"
+	"encoding/json"
+	"fmt"
+	"os"
+	"path/filepath"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"matgate/checks"
+	"matgate/worker"
+)
+
+// commit is stamped at build time with -ldflags "-X main.commit=...".
+var commit = "unknown"
+
+func newVerifyCmd(e *env) *cobra.Command {
+	var (
+		outDir, junitPath, signKey, format string
+		report                             bool
+	)
+	c := &cobra.Command{
+		Use:   "verify FILE|DIR|-...",
+		Short: "Verify cards and write records, neutral cards and tables",
+		Long: `verify checks each card, runs the standard verification cases on the
+reference integrator and writes, per card, into --out:
+
+  <id>-r<revision>.record.json    the verification record (matgate.record/1)
+  <id>-r<revision>.card.json      the neutral card (canonical, SI units)
+  <id>-r<revision>.monotonic.csv  monotonic tension: strain, plastic strain, stress
+  <id>-r<revision>.cyclic.csv     stabilized cyclic curve from the loop tips
+  <id>-r<revision>.report.html    with --report: the record with plots
+
+Exit 0 when every card passes, 1 when a verification failed, 2 when a card is
+invalid, 3 on an internal error. Invalid cards never stop the others.
+
+Verification shows that a card is integrated consistently and matches its
+references; it does not show fitness for design.`,
+		Args: cobra.MinimumNArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if format != "text" && format != "json" {
+				return &usageError{fmt.Errorf("--format %q: use text or json", format)}
+			}
+			var priv ed25519.PrivateKey
+			if signKey != "" {
+				var err error
+				if priv, err = readPrivateKey(signKey); err != nil {
+					return invalid("--sign-key: %v", err)
+				}
+			}
+			names, err := expandInputs(args)
+			if err != nil {
+				return err
+			}
+			if err := os.MkdirAll(outDir, 0o755); err != nil {
+				return &exitError{code: exitInternal, err: err}
+			}
+			var sum verifySummary
+			var suites []junitSuite
+			for i, n := range names {
+				if len(names) > 1 {
+					fmt.Fprintf(e.stderr, "[%d/%d] %s\n", i+1, len(names), n)
+				}
+				o := verifyOne(cmd, e, n, outDir, report, priv)
+				sum.add(o)
+				if format == "text" {
+					o.print(e)
+				}
+				suites = append(suites, o.junit())
+			}
+			if junitPath != "" {
+				if err := writeJUnit(junitPath, suites); err != nil {
+					return &exitError{code: exitInternal, err: err}
+				}
+			}
+			if format == "json" {
+				enc := json.NewEncoder(e.stdout)
+				enc.SetIndent("", "  ")
+				if err := enc.Encode(sum.outcomes); err != nil {
+					return err
+				}
+			} else {
+				fmt.Fprintf(e.stdout, "%d card(s): %d passed, %d failed, %d invalid, %d error(s); outputs in %s\n",
+					len(names), sum.passed, sum.failed, sum.invalid, sum.internal, outDir)
+				fmt.Fprintln(e.stdout, "Verification is not fitness for design: defer to the applicable codes and licensed engineers.")
+			}
+			return sum.err()
+		},
+	}
+	c.Flags().StringVar(&outDir, "out", "matgate-out", "directory for records, neutral cards, tables and reports")
+	c.Flags().BoolVar(&report, "report", false, "also write an HTML report with plots of every case")
+	c.Flags().StringVar(&junitPath, "junit", "", "write JUnit XML to this file (one test case a check)")
+	c.Flags().StringVar(&signKey, "sign-key", "", "sign each record with this ed25519 private key (PEM, PKCS #8)")
+	c.Flags().StringVar(&format, "format", "text", "output format: text or json")
+	return c
+}
+
+// verifyOutcome is one card's result, as `verify --format json` prints it.
+type verifyOutcome struct {
+	File     string   `json:"file"`
+	ID       string   `json:"id,omitempty"`
+	Revision int      `json:"revision,omitempty"`
+	Status   string   `json:"status"` // pass, fail, invalid, error
+	Checks   int      `json:"checks"`
+	Failed   []string `json:"failed_checks,omitempty"`
+	Outputs  []string `json:"outputs,omitempty"`
+	Problems []string `json:"problems,omitempty"` // diagnostics or the internal error
+
+	record *checks.Record
+}
+
+func verifyOne(cmd *cobra.Command, e *env, name, outDir string, report bool, priv ed25519.PrivateKey) verifyOutcome {
+	l := loadCard(e, name)
+	o := verifyOutcome{File: l.file}
+	for _, d := range l.diags {
+		o.Problems = append(o.Problems, d.String())
+	}
+	if !l.valid() {
+		o.Status = "invalid"
+		return o
+	}
+	o.ID, o.Revision = l.card.ID, l.card.Revision
+	fail := func(err error) verifyOutcome {
+		o.Status = "error"
+		o.Problems = append(o.Problems, err.Error())
+		return o
+	}
+	out, err := worker.Verify(cmd.Context(), l.card, checks.Tool{Version: version, Commit: commit}, time.Now().UTC())
+	if err != nil {
+		return fail(err)
+	}
+	if priv != nil {
+		if err := out.Record.Sign(priv); err != nil {
+			return fail(err)
+		}
+	}
+	o.record = out.Record
+	o.Status = out.Record.Verdict
+	for _, cs := range out.Record.Cases {
+		for _, ck := range cs.Checks {
+			o.Checks++
+			if !ck.Pass {
+				o.Failed = append(o.Failed, cs.Name+"/"+ck.Name)
+			}
+		}
+	}
+	base := filepath.Join(outDir, fmt.Sprintf("%s-r%d", l.card.ID, l.card.Revision))
+	rec, err := json.MarshalIndent(out.Record, "", "  ")
+	if err != nil {
+		return fail(err)
+	}
+	files := map[string][]byte{
+		base + ".record.json": append(rec, '\n'),
+		base + ".card.json":   out.Card,
+	}
+	for _, t := range out.Tables {
+		files[base+"."+t.Name+".csv"] = t.CSV()
+	}
+	if report {
+		html, err := renderReport(out.Record)
+		if err != nil {
+			return fail(err)
+		}
+		files[base+".report.html"] = html
+	}
+	for _, p := range sortedKeys(files) {
+		if err := writeFileAtomic(p, files[p]); err != nil {
+			return fail(err)
+		}
+		o.Outputs = append(o.Outputs, p)
+	}
+	return o
+}
+
+func (o verifyOutcome) print(e *env) {
+	for _, p := range o.Problems {
+		fmt.Fprintln(e.stdout, p)
+	}
+	switch o.Status {
+	case "pass", "fail":
+		fmt.Fprintf(e.stdout, "%-4s %s r%d: %d checks, %d failed (%s)\n", o.Status, o.ID, o.Revision, o.Checks, len(o.Failed), o.File)
+		for _, f := range o.Failed {
+			fmt.Fprintf(e.stdout, "     failed: %s\n", f)
+		}
+	default:
+		fmt.Fprintf(e.stdout, "%s %s\n", o.Status, o.File)
+	}
+}
+
+type verifySummary struct {
+	passed, failed, invalid, internal int
+	outcomes                          []verifyOutcome
+}
+
+func (s *verifySummary) add(o verifyOutcome) {
+	s.outcomes = append(s.outcomes, o)
+	switch o.Status {
+	case "pass":
+		s.passed++
+	case "fail":
+		s.failed++
+	case "invalid":
+		s.invalid++
+	default:
+		s.internal++
+	}
+}
+
+// err maps the summary to the exit code: the worst outcome wins.
+func (s *verifySummary) err() error {
+	switch {
+	case s.internal > 0:
+		return &exitError{code: exitInternal}
+	case s.invalid > 0:
+		return &exitError{code: exitInvalid}
+	case s.failed > 0:
+		return &exitError{code: exitFailed}
+	}
+	return nil
+}

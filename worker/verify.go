@@ -1,0 +1,80 @@
+package worker
+
+import (
+	"context"
+	"fmt"
+	"time"
+
+	"matgate/checks"
+	"matgate/convert"
+	"matgate/schema"
+)
+
+// Spec maps a canonical card (as convert.Normalize writes it: SI units,
+// every default written out) to the verification spec.
+func Spec(c *schema.Card) (checks.Spec, error) {
+	m, err := convert.Material(c)
+	if err != nil {
+		return checks.Spec{}, err
+	}
+	v := c.Verification
+	if v == nil || v.MonotonicStrain == nil || v.Cycles == nil {
+		return checks.Spec{}, fmt.Errorf("spec of card %s: not canonical (verification defaults missing)", c.ID)
+	}
+	s := checks.Spec{
+		Material:         m,
+		Profile:          v.Profile,
+		MonotonicStrain:  *v.MonotonicStrain,
+		StrainAmplitudes: append([]float64(nil), v.StrainAmplitudes...),
+		Cycles:           *v.Cycles,
+	}
+	if r := v.Ratcheting; r != nil {
+		s.Ratcheting = &checks.Ratcheting{MeanStress: r.MeanStress, StressAmplitude: r.StressAmplitude, Cycles: r.Cycles}
+	}
+	for _, r := range v.References {
+		ref := checks.Reference{Name: r.Name, Kind: r.Kind, Control: r.Control, Points: r.Points}
+		if r.Tolerance != nil {
+			ref.Tol = r.Tolerance.Rel
+		}
+		s.References = append(s.References, ref)
+	}
+	return s, nil
+}
+
+// Outputs are what one verification produces.
+type Outputs struct {
+	Record *checks.Record
+	Card   []byte          // the neutral card: the canonical card, indented JSON
+	Tables []convert.Table // tabulated curves of the neutral card
+}
+
+// Verify runs the standard verification of a canonical card and builds its
+// record and neutral card. A failed verification is a result (the record's
+// verdict), not an error; errors are cancellation and internal failures.
+func Verify(ctx context.Context, c *schema.Card, tool checks.Tool, created time.Time) (*Outputs, error) {
+	spec, err := Spec(c)
+	if err != nil {
+		return nil, err
+	}
+	res, err := checks.Run(ctx, spec)
+	if err != nil {
+		return nil, fmt.Errorf("verify %s: %w", c.ID, err)
+	}
+	canon, err := convert.Canonical(c)
+	if err != nil {
+		return nil, err
+	}
+	rec, err := checks.NewRecord(res, checks.RecordCard{ID: c.ID, Revision: c.Revision, Digest: c.Digest, Canonical: canon}, tool, created)
+	if err != nil {
+		return nil, fmt.Errorf("record of %s: %w", c.ID, err)
+	}
+	card, err := convert.Indented(c)
+	if err != nil {
+		return nil, err
+	}
+	tables, err := convert.Tables(ctx, c)
+	if err != nil {
+		return nil, err
+	}
+	return &Outputs{Record: rec, Card: card, Tables: tables}, nil
+}
