@@ -142,11 +142,16 @@ func (m *Material) ElasticStiffness() [6][6]float64 {
 // gamma). For BackwardEuler this is the multi-term radial return of
 // Kobayashi and Ohno. For Exact the update is the exact solution of the
 // rate equations whenever stress, back stresses and the strain increment
-// are coaxial (then the normal does not turn); on other increments the
-// full step is compared with two half steps and halved recursively until
-// they agree within Settings.SubstepTol; D is then the tangent of the last
-// substep (an approximation of the tangent of the composite map that
-// approaches the continuum tangent).
+// are coaxial (then the normal does not turn, and one step is taken). On
+// other increments the normal turns and the single return is first order;
+// the increment is then integrated with one, two and four returns, the two
+// Richardson extrapolants 2 y(h/2) - y(h) and 2 y(h/4) - y(h/2) are compared
+// and the increment is halved until they agree within Settings.SubstepTol,
+// and the accepted extrapolant is returned to the yield surface at fixed
+// total strain (extrapolation leaves it by a second-order amount). D is then
+// the tangent of the first single return over the last accepted substep: an
+// approximation of the tangent of the composite map, good enough for the
+// mixed-control Newton (which converges on the stress residual, not on D).
 //
 // References:
 //   - J. C. Simo and T. J. R. Hughes, Computational Inelasticity, 1998,
@@ -173,11 +178,14 @@ func (m *Material) Step3D(dst, src *State3D, dEps [6]float64, D *[6][6]float64, 
 	return info, err
 }
 
-// substep integrates dEps with the Exact return, halving until a full step
-// and two half steps agree within tol.
+// substep integrates dEps with the Exact return. It compares one step, two
+// half steps and four quarter steps, forms the two Richardson extrapolants
+// R1 = 2 y(h/2) - y(h) and R2 = 2 y(h/4) - y(h/2) (the first-order error
+// term cancels), and accepts R2, returned to the yield surface at fixed
+// total strain, when |R2 - R1| <= tol; otherwise it halves the increment.
 func (m *Material) substep(dst, src *State3D, dEps *[6]float64, D *[6][6]float64, maxIter int, tol float64, depth int, info *StepInfo) error {
-	var full, half, two State3D
-	fi, err := m.radialReturn(&full, src, dEps, D, Exact, maxIter)
+	var y1, y2, y4 State3D
+	fi, err := m.radialReturn(&y1, src, dEps, D, Exact, maxIter)
 	info.Iterations += fi.Iterations
 	info.Substeps++
 	if err != nil {
@@ -186,30 +194,72 @@ func (m *Material) substep(dst, src *State3D, dEps *[6]float64, D *[6][6]float64
 	if !fi.Plastic {
 		// An elastic full step is exact: the trial path is a segment and the
 		// elastic domain is convex.
-		*dst = full
+		*dst = y1
 		return nil
+	}
+	ok := m.uniform(&y2, src, dEps, 2, maxIter, info) == nil && m.uniform(&y4, src, dEps, 4, maxIter, info) == nil
+	if ok {
+		r1 := m.combine(&y2, &y1, 2, -1)
+		r2 := m.combine(&y4, &y2, 2, -1)
+		if m.stateDiff(&r1, &r2) <= tol {
+			var zero [6]float64
+			pi, err := m.returnMap(dst, &r2, &zero, nil, Exact, maxIter, true)
+			info.Iterations += pi.Iterations
+			if err != nil {
+				*dst = y4
+			}
+			info.Plastic = true
+			info.DP += dst.P - src.P
+			return nil
+		}
+	}
+	if depth <= 0 {
+		return ErrNotConverged
 	}
 	var h [6]float64
 	for k := range h {
 		h[k] = 0.5 * dEps[k]
 	}
-	hi1, err1 := m.radialReturn(&half, src, &h, nil, Exact, maxIter)
-	hi2, err2 := m.radialReturn(&two, &half, &h, nil, Exact, maxIter)
-	info.Iterations += hi1.Iterations + hi2.Iterations
-	info.Substeps += 2
-	if err1 == nil && err2 == nil && m.stateDiff(&full, &two) <= tol {
-		*dst = full
-		info.Plastic = true
-		info.DP += fi.DP
-		return nil
-	}
-	if depth <= 0 {
-		return ErrNotConverged
-	}
-	if err := m.substep(&half, src, &h, nil, maxIter, tol, depth-1, info); err != nil {
+	var mid State3D
+	// Each half gets half the tolerance, so that the errors of the accepted
+	// substeps add up to at most tol over the increment.
+	if err := m.substep(&mid, src, &h, nil, maxIter, tol/2, depth-1, info); err != nil {
 		return err
 	}
-	return m.substep(dst, &half, &h, D, maxIter, tol, depth-1, info)
+	return m.substep(dst, &mid, &h, D, maxIter, tol/2, depth-1, info)
+}
+
+// uniform integrates dEps in n equal Exact steps without error control.
+func (m *Material) uniform(dst, src *State3D, dEps *[6]float64, n int, maxIter int, info *StepInfo) error {
+	var h [6]float64
+	for k := range h {
+		h[k] = dEps[k] / float64(n)
+	}
+	*dst = *src
+	for i := 0; i < n; i++ {
+		si, err := m.radialReturn(dst, dst, &h, nil, Exact, maxIter)
+		info.Iterations += si.Iterations
+		info.Substeps++
+		if err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// combine returns ca a + cb b for the evolving fields (the total strain of
+// a is kept; a and b share it).
+func (m *Material) combine(a, b *State3D, ca, cb float64) State3D {
+	out := *a
+	for k := 0; k < 6; k++ {
+		out.Sigma[k] = ca*a.Sigma[k] + cb*b.Sigma[k]
+		out.EpsP[k] = ca*a.EpsP[k] + cb*b.EpsP[k]
+		for i := 0; i < m.N; i++ {
+			out.X[i][k] = ca*a.X[i][k] + cb*b.X[i][k]
+		}
+	}
+	out.P = ca*a.P + cb*b.P
+	return out
 }
 
 // stateDiff returns the max-norm difference of stress and back stresses.
@@ -259,6 +309,13 @@ func (m *Material) proportional(s *State3D, dEps *[6]float64) bool {
 
 // radialReturn is one return mapping over dEps with the given algorithm.
 func (m *Material) radialReturn(dst, src *State3D, dEps *[6]float64, D *[6][6]float64, alg Algorithm, maxIter int) (StepInfo, error) {
+	return m.returnMap(dst, src, dEps, D, alg, maxIter, false)
+}
+
+// returnMap is radialReturn; with project set it returns src to the yield
+// surface with a signed dp (zero strain increment expected), for the
+// correction after Richardson extrapolation.
+func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float64, alg Algorithm, maxIter int, project bool) (StepInfo, error) {
 	G, K := m.g, m.bulk
 	tr := dEps[0] + dEps[1] + dEps[2]
 	var sTr [6]float64
@@ -291,7 +348,7 @@ func (m *Material) radialReturn(dst, src *State3D, dEps *[6]float64, D *[6][6]fl
 	}
 	const s32 = 1.2247448713915890491 // sqrt(3/2)
 	f := s32*math.Sqrt(Contract(xiTr, xiTr)) - m.YieldRadius(src.P)
-	if !(f > 0) {
+	if !(f > 0) && !(project && f < 0) {
 		if math.IsNaN(f) {
 			return StepInfo{}, ErrInvalidInput
 		}
@@ -347,20 +404,27 @@ func (m *Material) radialReturn(dst, src *State3D, dEps *[6]float64, D *[6][6]fl
 	dp := 0.0
 	r, dr := eval(0)
 	lo, hi := 0.0, math.Inf(1)
+	if project {
+		lo = math.Inf(-1)
+	}
 	it := 0
 	converged := false
 	for it < maxIter {
 		it++
 		step := r / dr
 		next := dp + step
-		if !(dr > 0) || !(next > lo && next < hi) {
+		if project {
+			if !(dr > 0) || math.IsInf(next, 0) || math.IsNaN(next) {
+				break
+			}
+		} else if !(dr > 0) || !(next > lo && next < hi) {
 			if math.IsInf(hi, 1) {
 				next = 2*lo + math.Abs(step)
 			} else {
 				next = 0.5 * (lo + hi)
 			}
 		}
-		small := math.Abs(next-dp) <= 1e-14*next
+		small := math.Abs(next-dp) <= 1e-14*math.Abs(next)
 		dp = next
 		r, dr = eval(dp)
 		if r > 0 {
@@ -372,6 +436,9 @@ func (m *Material) radialReturn(dst, src *State3D, dEps *[6]float64, D *[6][6]fl
 			converged = true
 			break
 		}
+	}
+	if project && !converged && math.Abs(r) <= 1e-13*m.SigmaY {
+		converged = true // dp ~ 0: the relative step test cannot be met
 	}
 	if !converged || !(dr > 0) || !(nxi > 0) || math.IsNaN(dp) {
 		return StepInfo{Iterations: it, Substeps: 1}, ErrNotConverged
