@@ -1,7 +1,9 @@
 package convert
 
 import (
+	"errors"
 	"fmt"
+	"io/fs"
 	"math"
 	"strconv"
 
@@ -139,8 +141,11 @@ func verificationDefaults(n *schema.Card, given *schema.Verification, f float64,
 				return nil, &FieldError{Pointer: ptrOf + "/file", Err: fmt.Errorf("reference file %q cannot be read here: no card directory", r.File)}
 			}
 			data, err := opts.ReadFile(r.File)
+			if errors.Is(err, fs.ErrNotExist) {
+				return nil, &FieldError{Pointer: ptrOf + "/file", Err: fmt.Errorf("reference file %q not found in the card's folder", r.File)}
+			}
 			if err != nil {
-				return nil, &FieldError{Pointer: ptrOf + "/file", Err: fmt.Errorf("read reference: %w", err)}
+				return nil, &FieldError{Pointer: ptrOf + "/file", Err: fmt.Errorf("read reference %q: %w", r.File, err)}
 			}
 			if pts, err = ReadCurve(r.File, data); err != nil {
 				return nil, &FieldError{Pointer: ptrOf + "/file", Err: err}

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"sort"
 
 	"matgate/schema"
 )
@@ -72,7 +73,7 @@ func Plausibility(doc *schema.Document) schema.Diagnostics {
 	}
 	d := Derive(c)
 	if iso := c.Plasticity.Isotropic; iso != nil && iso.Q != nil && sy+*iso.Q <= 0 {
-		add(schema.SeverityError, "/plasticity/isotropic/q", "yield_stress + q = %g + %g = %g %s is not positive: the yield surface would vanish", sy, *iso.Q, sy+*iso.Q, unit)
+		add(schema.SeverityError, "/plasticity/isotropic/q", "yield_stress + q = %g + (%g) = %g %s is not positive: the yield surface would vanish", sy, *iso.Q, sy+*iso.Q, unit)
 	}
 	if d.SaturationStress != nil && *d.SaturationStress < sy {
 		add(schema.SeverityWarning, "/plasticity", "saturation stress yield_stress + sum c/gamma + q = %g %s is below the yield stress %g %s: the card softens overall", *d.SaturationStress, unit, sy, unit)
@@ -115,24 +116,37 @@ func likelyUnit(E float64) string {
 func Prepare(doc *schema.Document, opts *Options) (*schema.Card, schema.Diagnostics) {
 	ds := Plausibility(doc)
 	if ds.HasErrors() {
-		return nil, ds
+		return nil, sortDiags(ds)
 	}
 	n, err := Normalize(doc.Card, opts)
 	if err != nil {
 		var fe *FieldError
 		if errors.As(err, &fe) {
-			return nil, append(ds, doc.Diag(schema.SeverityError, fe.Pointer, "%v", fe.Err))
+			return nil, sortDiags(append(ds, doc.Diag(schema.SeverityError, fe.Pointer, "%v", fe.Err)))
 		}
-		return nil, append(ds, doc.Diag(schema.SeverityError, "", "%v", err))
+		return nil, sortDiags(append(ds, doc.Diag(schema.SeverityError, "", "%v", err)))
 	}
 	ds = append(ds, checkStated(doc, n)...)
 	if _, err := Material(n); err != nil {
 		ds = append(ds, doc.Diag(schema.SeverityError, "/plasticity", "the integrator cannot use these parameters: %v", err))
 	}
 	if ds.HasErrors() {
-		return nil, ds
+		return nil, sortDiags(ds)
 	}
-	return n, ds
+	return n, sortDiags(ds)
+}
+
+// sortDiags orders diagnostics by source position, as a reader goes
+// through the file; diagnostics without a position come first.
+func sortDiags(ds schema.Diagnostics) schema.Diagnostics {
+	sort.SliceStable(ds, func(i, j int) bool {
+		a, b := ds[i].Pos, ds[j].Pos
+		if a.Line != b.Line {
+			return a.Line < b.Line
+		}
+		return a.Column < b.Column
+	})
+	return ds
 }
 
 // statedTolerance is the relative agreement required between a derived
