@@ -29,7 +29,7 @@ func Run(ctx context.Context, spec Spec) (*Result, error) {
 			continue
 		}
 		c, set, err := cs.fn(ctx, 1)
-		if err == nil {
+		if err == nil && !cs.ownConvergence {
 			var fine Case
 			var fset CaseSetting
 			fine, fset, err = cs.fn(ctx, 2)
@@ -65,6 +65,8 @@ type caseSpec struct {
 	name, kind, loading string
 	skip                string
 	fn                  caseFn
+	ownConvergence      bool // the case makes its own refinement study
+
 }
 
 func (v *verifier) cases() []caseSpec {
@@ -83,6 +85,13 @@ func (v *verifier) cases() []caseSpec {
 		cs = append(cs, caseSpec{name: "ratcheting", fn: v.ratcheting})
 	}
 	cs = append(cs, caseSpec{name: "mean-strain-relaxation", fn: v.relaxation})
+	cs = append(cs,
+		caseSpec{name: "3d-uniaxial-stress", fn: v.uniaxial3D},
+		caseSpec{name: "3d-pure-shear", fn: v.pureShear},
+		caseSpec{name: "3d-tension-torsion-90", fn: v.tensionTorsion, ownConvergence: true})
+	for _, r := range v.spec.References {
+		cs = append(cs, caseSpec{name: "reference-" + r.Name, fn: v.reference(r)})
+	}
 	return cs
 }
 
