@@ -26,15 +26,15 @@ func (b *builder) parseYAML(data []byte) (any, bool) {
 		}
 		return nil, false
 	}
+	w := yamlWalker{b: b, aliases: map[string]bool{}}
 	var next yaml.Node
 	switch err := dec.Decode(&next); {
 	case errors.Is(err, io.EOF):
 	case err != nil:
 		b.yamlError(err)
 	default:
-		b.errorf(Pos{Line: next.Line, Column: next.Column}, "", "a second YAML document starts here: a card file holds one document (remove the '---' and what follows, or split the file)")
+		b.errorf(w.pos(&next), "", "a second YAML document starts here: a card file holds one document (remove the '---' and what follows, or split the file)")
 	}
-	w := yamlWalker{b: b, aliases: map[string]bool{}}
 	var v any
 	if len(root.Content) > 0 {
 		v = w.node(root.Content[0], "", 1)
@@ -71,6 +71,9 @@ func (b *builder) yamlError(err error) {
 		if yamlParserProblems[m[2]] {
 			line++
 		}
+		// At the end of the input the parser's mark can be one line past
+		// the last one.
+		line = min(line, len(b.lines))
 		b.errorf(Pos{Line: line}, "", "YAML syntax error: %s", m[2])
 		return
 	}
@@ -85,12 +88,19 @@ type yamlWalker struct {
 	aliases map[string]bool // alias names already reported
 }
 
-func nodePos(n *yaml.Node) Pos { return Pos{Line: n.Line, Column: n.Column} }
+// pos is where n is written. An empty node at the end of the input can be
+// placed one line past the last; it is moved to the start of the last line.
+func (w *yamlWalker) pos(n *yaml.Node) Pos {
+	if last := len(w.b.lines); n.Line > last {
+		return Pos{Line: last, Column: 1}
+	}
+	return Pos{Line: n.Line, Column: n.Column}
+}
 
 // node converts n to a JSON-compatible value and records its position.
 func (w *yamlWalker) node(n *yaml.Node, pointer string, depth int) any {
 	b := w.b
-	pos := nodePos(n)
+	pos := w.pos(n)
 	if n.Anchor != "" {
 		b.errorf(pos, pointer, "YAML anchor &%s is not allowed: write each value out in full (anchors and aliases can expand a small file into a huge card)", n.Anchor)
 	}
@@ -140,7 +150,7 @@ func (w *yamlWalker) mapping(n *yaml.Node, pointer string, depth int) any {
 	keys := map[string]Pos{}
 	for i := 0; i+1 < len(n.Content); i += 2 {
 		k, v := n.Content[i], n.Content[i+1]
-		kpos := nodePos(k)
+		kpos := w.pos(k)
 		switch {
 		case k.Kind != yaml.ScalarNode:
 			b.errorf(kpos, pointer, "a mapping key must be a plain name, not a %s", kindName(k.Kind))
