@@ -107,8 +107,8 @@ func (m *Material) Step1D(dst, src *State1D, dEps float64, set *Settings) (StepI
 	s := *src
 	sigTr := s.Sigma + m.E*dEps
 	xi := sigTr - s.BackStress(m.N)
-	k := m.SigmaY + m.R(s.P)
-	f := math.Abs(xi) - k
+	r0, r1, r2 := m.rDeriv(s.P)
+	f := math.Abs(xi) - (m.SigmaY + r0)
 	if !(f > 0) {
 		if math.IsNaN(f) {
 			return StepInfo{}, ErrInvalidInput
@@ -172,48 +172,68 @@ func (m *Material) Step1D(dst, src *State1D, dEps float64, set *Settings) (StepI
 	}
 
 	dp := 0.0
-	g, g1, g2 := f, 0.0, 0.0
-	// At dp = 0: g = f exactly; derivatives need no exponentials.
-	_, g1, g2 = eval(0)
-	lo, hi := 0.0, math.Inf(1)
-	maxIter := set.maxIter()
 	it := 0
-	converged := false
-	for it < maxIter {
-		it++
-		// Halley step; falls back to Newton when the correction is unsafe.
-		den := 2*g1*g1 - g*g2
-		var step float64
-		if den > 0 && !m.linear {
-			step = -2 * g * g1 / den
-		} else {
-			step = -g / g1
+	var g1 float64
+	if m.linear {
+		// No AF term, no Voce: g is linear in dp and one step is exact.
+		g1 = -m.E - m.hLin - r1
+		dp = -f / g1
+		it = 1
+	} else {
+		// Derivatives at dp = 0 (e = q = 1): the same for both algorithms in
+		// g', twice as large in g'' for backward Euler.
+		g := f
+		g1 = -m.E - m.hLin - r1
+		g2 := -r2
+		c2 := 1.0
+		if !exact {
+			c2 = 2
 		}
-		next := dp + step
-		if !(next > lo && next < hi) {
-			if math.IsInf(hi, 1) {
-				next = 2*lo + step
-				if !(next > lo) {
-					next = lo + math.Abs(step)
-				}
+		for j := 0; j < m.nAF; j++ {
+			t := m.Terms[m.af[j]]
+			c := t.C - t.Gamma*nAlpha[j]
+			g1 -= c
+			g2 += c2 * t.Gamma * c
+		}
+		lo, hi := 0.0, math.Inf(1)
+		maxIter := set.maxIter()
+		converged := false
+		for it < maxIter {
+			it++
+			// Halley step; Newton where the Halley denominator is unsafe.
+			den := 2*g1*g1 - g*g2
+			var step float64
+			if den > 0 {
+				step = -2 * g * g1 / den
 			} else {
-				next = 0.5 * (lo + hi)
+				step = -g / g1
+			}
+			next := dp + step
+			if !(next > lo && next < hi) {
+				if math.IsInf(hi, 1) {
+					next = 2*lo + math.Abs(step)
+				} else {
+					next = 0.5 * (lo + hi)
+				}
+			}
+			small := math.Abs(next-dp) <= 1e-14*next
+			dp = next
+			g, g1, g2 = eval(dp)
+			if g > 0 {
+				lo = dp
+			} else {
+				hi = dp
+			}
+			if small || g == 0 || (hi < math.MaxFloat64 && hi-lo <= 1e-15*hi) {
+				converged = true
+				break
 			}
 		}
-		small := math.Abs(next-dp) <= 1e-14*next
-		dp = next
-		g, g1, g2 = eval(dp)
-		if g > 0 {
-			lo = dp
-		} else {
-			hi = dp
-		}
-		if m.linear || small || g == 0 || (hi < math.MaxFloat64 && hi-lo <= 1e-15*hi) {
-			converged = true
-			break
+		if !converged {
+			return StepInfo{Iterations: it, Substeps: 1}, ErrNotConverged
 		}
 	}
-	if !converged || !(g1 < 0) || math.IsNaN(dp) {
+	if !(g1 < 0) || !(dp > 0) || math.IsInf(dp, 0) {
 		return StepInfo{Iterations: it, Substeps: 1}, ErrNotConverged
 	}
 

@@ -401,8 +401,22 @@ func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float
 		return r, dr
 	}
 
+	// r and -r' at dp = 0 (e = q = 1, the same for both algorithms).
 	dp := 0.0
-	r, dr := eval(0)
+	nxi = math.Sqrt(Contract(xiTr, xiTr))
+	xiT = xiTr
+	r := f
+	_, r1, _ := m.rDeriv(src.P)
+	dr := 3*G + m.hLin + r1
+	for j := 0; j < m.nAF; j++ {
+		t := m.Terms[m.af[j]]
+		dr += t.C
+		x := &src.X[m.af[j]]
+		for k := 0; k < 6; k++ {
+			v[k] += t.Gamma * x[k]
+		}
+	}
+	dr -= s32 * Contract(xiTr, v) / nxi
 	lo, hi := 0.0, math.Inf(1)
 	if project {
 		lo = math.Inf(-1)
@@ -432,7 +446,7 @@ func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float
 		} else {
 			hi = dp
 		}
-		if (m.linear && m.nAF == 0 && it >= 1 && math.Abs(r) <= 1e-13*m.SigmaY) || small || r == 0 || (hi < math.MaxFloat64 && hi-lo <= 1e-15*hi) {
+		if (m.linear && math.Abs(r) <= 1e-13*m.SigmaY) || small || r == 0 || (hi < math.MaxFloat64 && hi-lo <= 1e-15*hi) {
 			converged = true
 			break
 		}
