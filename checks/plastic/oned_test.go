@@ -27,7 +27,7 @@ func preCycled(t *testing.T, m *Material) State1D {
 // constant and the state is a function of dp alone (Step1D).
 func TestExact1DIncrementIndependence(t *testing.T) {
 	mats := map[string]Material{
-		"chaboche3+voce": chaboche3Voce(t),
+		"chaboche3+voce":           chaboche3Voce(t),
 		"af+prager+voce-softening": mustMaterial(t, []Term{{C: 40e9, Gamma: 300}, {C: 1e9}}, Isotropic{Kind: IsoVoce, Q: -50e6, B: 20}),
 	}
 	for name, m := range mats {
@@ -68,7 +68,7 @@ func TestBackwardEuler1DFirstOrder(t *testing.T) {
 // central finite differences (gonum diff/fd), for both algorithms, on
 // plastic increments in both directions. Tolerance 1e-7 relative: the
 // step 1e-6 against increments of 3e-3 to 1e-2 gives a truncation error of
-// order (1e-6/3e-3)^2 = 1e-7 times sigma''' / sigma' (much less here), and
+// order (1e-6/3e-3)^2 = 1e-7 times sigma”' / sigma' (much less here), and
 // keeps the noise of the dp iteration (stopped at 1e-14 dp, about 1e-5 Pa)
 // at 1e-5 Pa / 2e-6 = 5 Pa, below 1e-9 of the tangent.
 func TestTangent1D(t *testing.T) {
