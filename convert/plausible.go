@@ -48,7 +48,8 @@ func Plausibility(doc *schema.Document) schema.Diagnostics {
 	unit := c.Units.Stress
 	E := c.Elastic.YoungsModulus
 	ESI := E * f
-	if ESI < minMetalE || ESI > maxMetalE {
+	plausibleE := ESI >= minMetalE && ESI <= maxMetalE
+	if !plausibleE {
 		msg := fmt.Sprintf("Young's modulus %g %s is %.3g GPa, outside the range of metals (%g to %g GPa)", E, unit, ESI/1e9, minMetalE/1e9, maxMetalE/1e9)
 		if u := likelyUnit(E); u != "" {
 			msg += fmt.Sprintf("; the card is almost surely written in %s, not %s", u, unit)
@@ -59,7 +60,7 @@ func Plausibility(doc *schema.Document) schema.Diagnostics {
 	switch epsY := sy / E; {
 	case epsY > maxYieldStrain:
 		add(schema.SeverityError, "/plasticity/yield_stress", "yield strain yield_stress/E = %g/%g = %.3g is above %g: the yield stress or Young's modulus is wrong", sy, E, epsY, maxYieldStrain)
-	case epsY < minYieldStrain:
+	case epsY < minYieldStrain && plausibleE: // else E is the slip, reported above
 		add(schema.SeverityWarning, "/plasticity/yield_stress", "yield strain yield_stress/E = %g/%g = %.3g is below %g: is the yield stress in another unit than %s?", sy, E, epsY, minYieldStrain, unit)
 	}
 	for i, t := range c.Plasticity.Kinematic {
