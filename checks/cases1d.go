@@ -18,6 +18,44 @@ type verifier struct {
 	epsY float64 // yield strain sigmaY / E
 	hEps float64 // strain increment
 	hSig float64 // stress increment, Pa
+
+	tipCache map[string][]tip // branch-solution references by case (they do not depend on the increment)
+}
+
+// tipsOf returns the branch-solution tips from the virgin state through the
+// targets, strain targets when strain is true, computed once per case.
+func (v *verifier) tipsOf(name string, strain bool, targets []float64) ([]tip, error) {
+	if t, ok := v.tipCache[name]; ok {
+		return t, nil
+	}
+	tips := make([]tip, 0, len(targets))
+	var t tip
+	for _, x := range targets {
+		if strain {
+			t = branchToStrain(v.m, t, x)
+		} else {
+			var err error
+			if t, err = branchToStress(v.m, t, x); err != nil {
+				return nil, err
+			}
+		}
+		tips = append(tips, t)
+	}
+	if v.tipCache == nil {
+		v.tipCache = map[string][]tip{}
+	}
+	v.tipCache[name] = tips
+	return tips, nil
+}
+
+// cycleTargets returns first, then n times (lo, hi).
+func cycleTargets(first, lo, hi float64, n int) []float64 {
+	t := make([]float64, 0, 2*n+1)
+	t = append(t, first)
+	for k := 0; k < n; k++ {
+		t = append(t, lo, hi)
+	}
+	return t
 }
 
 func newVerifier(spec Spec) *verifier {

@@ -59,9 +59,10 @@ func (v *verifier) cyclic(a float64) caseFn {
 		c := Case{Name: name, Kind: "fully-reversed", Loading: fmt.Sprintf("strain control, strain ratio -1: from the virgin state to %s, then %d cycles between %s and -%s, increments of at most %.4g (even per branch)", fmtG(a), N, fmtG(a), fmtG(a), h)}
 		d := newPath1D(ctx, m, v.set, v.prof.driverTol, (4*N+1)*int(a/h+2))
 		// The reference: branch solutions tip to tip.
-		tips := make([]tip, 0, 2*N+1)
-		t := branchToStrain(m, tip{}, a)
-		tips = append(tips, t)
+		tips, err := v.tipsOf(name, true, cycleTargets(a, -a, a, N))
+		if err != nil {
+			return c, CaseSetting{}, err
+		}
 		if err := d.strainTo(a, h, v.prof.incPerBranch/2); err != nil {
 			return c, CaseSetting{}, err
 		}
@@ -78,8 +79,6 @@ func (v *verifier) cyclic(a float64) caseFn {
 				if d.keep {
 					first, d.keep = d.hist, false
 				}
-				t = branchToStrain(m, t, target)
-				tips = append(tips, t)
 			}
 		}
 		idx := append(append([]int(nil), d.tips...), len(d.pts)-1)

@@ -89,8 +89,15 @@ func (d *path1D) step(dEps float64) (plastic.StepInfo, error) {
 	d.inv.maxDEps = math.Max(d.inv.maxDEps, math.Abs(dEps))
 	if info.Plastic {
 		d.inv.plasticSteps++
-		d.inv.maxYield = math.Max(d.inv.maxYield, math.Abs(m.Yield1D(s))/k)
-		diss := m.Dissipation1D(&prev, s)
+		// Yield1D and Dissipation1D, with R(p) = k - sigmaY evaluated once
+		// (the exponential of Voce's R is the cost of this bookkeeping).
+		d.inv.maxYield = math.Max(d.inv.maxYield, math.Abs(math.Abs(s.Sigma-alpha)-k)/k)
+		diss := (s.Sigma-alpha)*(s.EpsP-prev.EpsP) - (k-m.SigmaY)*info.DP
+		for i := 0; i < m.N; i++ {
+			if t := m.Terms[i]; t.Gamma != 0 {
+				diss += t.Gamma / t.C * s.Alpha[i] * s.Alpha[i] * info.DP
+			}
+		}
 		d.inv.diss += diss
 		if info.DP > 0 {
 			d.inv.minDiss = math.Min(d.inv.minDiss, diss/info.DP)

@@ -16,12 +16,10 @@ func (v *verifier) ratcheting(ctx context.Context, refine int) (Case, CaseSettin
 	h := v.hSig / float64(refine)
 	c := Case{Name: "ratcheting", Kind: "stress-controlled-ratcheting", Loading: fmt.Sprintf("stress control from the virgin state to %.6g Pa, then %d cycles between %.6g and %.6g Pa (mean %.6g, amplitude %.6g), increments of at most %.4g Pa", sMax, N, sMax, sMin, r.MeanStress, r.StressAmplitude, h)}
 	d := newPath1D(ctx, m, v.set, v.prof.driverTol, (2*N+1)*int(2*r.StressAmplitude/h+2))
-	tips := make([]tip, 0, 2*N+1)
-	t, err := branchToStress(m, tip{}, sMax)
+	tips, err := v.tipsOf(c.Name, false, cycleTargets(sMax, sMin, sMax, N))
 	if err != nil {
 		return c, CaseSetting{}, err
 	}
-	tips = append(tips, t)
 	if err := d.stressTo(sMax, h); err != nil {
 		return c, CaseSetting{}, err
 	}
@@ -30,10 +28,6 @@ func (v *verifier) ratcheting(ctx context.Context, refine int) (Case, CaseSettin
 			if err := d.stressTo(target, h); err != nil {
 				return c, CaseSetting{}, err
 			}
-			if t, err = branchToStress(m, t, target); err != nil {
-				return c, CaseSetting{}, err
-			}
-			tips = append(tips, t)
 		}
 	}
 	idx := append(append([]int(nil), d.tips...), len(d.pts)-1)
@@ -97,9 +91,10 @@ func (v *verifier) relaxation(ctx context.Context, refine int) (Case, CaseSettin
 	h := math.Min(v.hEps, 2*r.StrainAmplitude/float64(v.prof.incPerBranch)) / float64(refine)
 	c := Case{Name: "mean-strain-relaxation", Kind: "mean-stress-relaxation", Loading: fmt.Sprintf("strain control from the virgin state to %s, then %d cycles between %s and %s (mean strain %s), increments of at most %.4g", fmtG(eMax), N, fmtG(eMax), fmtG(eMin), fmtG(r.MeanStrain), h)}
 	d := newPath1D(ctx, m, v.set, v.prof.driverTol, (2*N+1)*int(2*r.StrainAmplitude/h+2))
-	tips := make([]tip, 0, 2*N+1)
-	t := branchToStrain(m, tip{}, eMax)
-	tips = append(tips, t)
+	tips, err := v.tipsOf(c.Name, true, cycleTargets(eMax, eMin, eMax, N))
+	if err != nil {
+		return c, CaseSetting{}, err
+	}
 	if err := d.strainTo(eMax, h, v.prof.incPerBranch/2); err != nil {
 		return c, CaseSetting{}, err
 	}
@@ -108,8 +103,6 @@ func (v *verifier) relaxation(ctx context.Context, refine int) (Case, CaseSettin
 			if err := d.strainTo(target, h, v.prof.incPerBranch); err != nil {
 				return c, CaseSetting{}, err
 			}
-			t = branchToStrain(m, t, target)
-			tips = append(tips, t)
 		}
 	}
 	idx := append(append([]int(nil), d.tips...), len(d.pts)-1)
