@@ -73,6 +73,27 @@ func hasShear(c checks.Case) bool {
 // plotCase draws stress against strain (MPa), or for shear the shear
 // stress against the axial stress, as inline SVG.
 func plotCase(c checks.Case, shear bool) (template.HTML, error) {
+	p, err := buildPlot(c, shear)
+	if err != nil {
+		return "", err
+	}
+	w, err := p.WriterTo(6*vg.Inch, 4*vg.Inch, "svg")
+	if err != nil {
+		return "", err
+	}
+	var buf bytes.Buffer
+	if _, err := w.WriteTo(&buf); err != nil {
+		return "", err
+	}
+	svg := buf.String()
+	if i := strings.Index(svg, "<svg"); i > 0 {
+		svg = svg[i:] // drop the XML prolog: the SVG is inline in HTML
+	}
+	return template.HTML(svg), nil // produced by gonum/plot from numbers, not user text
+}
+
+// buildPlot lays out the plot of one case.
+func buildPlot(c checks.Case, shear bool) (*plot.Plot, error) {
 	p := plot.New()
 	p.Title.Text = c.Name
 	p.X.Label.Text, p.Y.Label.Text = "strain", "stress (MPa)"
@@ -89,7 +110,7 @@ func plotCase(c checks.Case, shear bool) (template.HTML, error) {
 	}
 	line, err := plotter.NewLine(pts)
 	if err != nil {
-		return "", err
+		return nil, err
 	}
 	line.Color = inkResponse
 	line.Width = vg.Points(1.2)
@@ -103,7 +124,7 @@ func plotCase(c checks.Case, shear bool) (template.HTML, error) {
 			}
 			sc, err := plotter.NewScatter(xy)
 			if err != nil {
-				return "", err
+				return nil, err
 			}
 			sc.Color = inkOverlay[i%len(inkOverlay)]
 			sc.Shape = draw.PlusGlyph{}
@@ -114,19 +135,7 @@ func plotCase(c checks.Case, shear bool) (template.HTML, error) {
 	}
 	p.Legend.Top, p.Legend.Left = true, true
 	p.Add(plotter.NewGrid())
-	w, err := p.WriterTo(6*vg.Inch, 4*vg.Inch, "svg")
-	if err != nil {
-		return "", err
-	}
-	var buf bytes.Buffer
-	if _, err := w.WriteTo(&buf); err != nil {
-		return "", err
-	}
-	svg := buf.String()
-	if i := strings.Index(svg, "<svg"); i > 0 {
-		svg = svg[i:] // drop the XML prolog: the SVG is inline in HTML
-	}
-	return template.HTML(svg), nil // produced by gonum/plot from numbers, not user text
+	return p, nil
 }
 
 var reportTemplate = template.Must(template.New("report").Funcs(template.FuncMap{

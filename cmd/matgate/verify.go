@@ -128,7 +128,7 @@ func verifyOne(cmd *cobra.Command, e *env, name, outDir string, report bool, pri
 		o.Problems = append(o.Problems, err.Error())
 		return o
 	}
-	out, err := worker.Verify(cmd.Context(), l.card, checks.Tool{Version: version, Commit: commit}, time.Now().UTC())
+	out, err := worker.Verify(cmd.Context(), l.card, toolOf(), time.Now().UTC())
 	if err != nil {
 		return fail(err)
 	}
