@@ -178,9 +178,12 @@ func (s Spec) Resolve() (Spec, error) {
 		s.Ratcheting = &r
 	}
 	refs := make([]Reference, len(s.References))
+	seen := map[string]bool{}
 	for i, r := range s.References {
 		f := fmt.Sprintf("References[%d]", i)
 		switch {
+		case r.Name == "" || seen[r.Name]:
+			return bad(f+".Name", 0, fmt.Sprintf("%q: a reference needs a name of its own (it names the case)", r.Name))
 		case r.Kind != "measured" && r.Kind != "solver":
 			return bad(f+".Kind", 0, fmt.Sprintf("%q: want measured or solver", r.Kind))
 		case r.Control != "strain" && r.Control != "stress":
@@ -204,6 +207,7 @@ func (s Spec) Resolve() (Spec, error) {
 				r.Tol = DefaultMeasuredTol
 			}
 		}
+		seen[r.Name] = true
 		r.Points = append([][2]float64(nil), r.Points...)
 		refs[i] = r
 	}
