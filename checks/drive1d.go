@@ -243,7 +243,7 @@ const maxSeries = 400
 
 func (d *path1D) series() []Sample {
 	return downsample(d.pts, maxSeries, func(p *pt) Sample {
-		return Sample{Strain: p.eps, Stress: p.sigma, PlasticStr: p.epsP, BackStress: p.alpha, P: p.p}
+		return Sample{Strain: p.eps, Stress: p.sigma, PlasticStrain: p.epsP, BackStress: p.alpha, P: p.p}
 	})
 }
 

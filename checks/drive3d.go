@@ -193,6 +193,6 @@ func (d *path3D) elasticGuess(dEps [6]float64) [6]float64 {
 
 func (d *path3D) series() []Sample {
 	return downsample(d.pts, maxSeries, func(p *pt3) Sample {
-		return Sample{Strain: p.eps11, Stress: p.sig11, PlasticStr: p.epsP11, BackStress: p.x11, P: p.p, ShearStrain: p.gam12, ShearStress: p.tau12}
+		return Sample{Strain: p.eps11, Stress: p.sig11, PlasticStrain: p.epsP11, BackStress: p.x11, P: p.p, ShearStrain: p.gam12, ShearStress: p.tau12}
 	})
 }

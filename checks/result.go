@@ -102,13 +102,13 @@ type Measure struct {
 // columns (tension-torsion: engineering shear strain gamma_12 and shear
 // stress tau_12); the 1D columns are the axial ones.
 type Sample struct {
-	Strain      float64 `json:"strain"`
-	Stress      float64 `json:"stress"`
-	PlasticStr  float64 `json:"plastic_strain"`
-	BackStress  float64 `json:"back_stress"`
-	P           float64 `json:"accumulated_plastic_strain"`
-	ShearStrain float64 `json:"shear_strain,omitempty"`
-	ShearStress float64 `json:"shear_stress,omitempty"`
+	Strain        float64 `json:"strain"`
+	Stress        float64 `json:"stress"`
+	PlasticStrain float64 `json:"plastic_strain"`
+	BackStress    float64 `json:"back_stress"`
+	P             float64 `json:"accumulated_plastic_strain"`
+	ShearStrain   float64 `json:"shear_strain,omitempty"`
+	ShearStress   float64 `json:"shear_stress,omitempty"`
 }
 
 // Curve is an overlay for plots: a closed-form curve or a reference curve,
