@@ -194,9 +194,10 @@ func toCard(v any) (*Card, error) {
 
 // builder collects the tree's positions and the diagnostics of one Decode.
 type builder struct {
-	doc   *Document
-	lines []int // byte offset of the start of each line
-	diags Diagnostics
+	doc     *Document
+	lines   []int // byte offset of the start of each line
+	diags   Diagnostics
+	lastPos posCache
 	// bad holds the pointers of values that could not be decoded as
 	// written; schema errors at or below them are consequences, not news.
 	bad map[string]bool
@@ -363,9 +364,19 @@ func (b *builder) posAt(data []byte, off int) Pos {
 		off = 0
 	}
 	i := sort.Search(len(b.lines), func(i int) bool { return b.lines[i] > off }) - 1
-	start := b.lines[i]
-	return Pos{Line: i + 1, Column: utf8.RuneCount(data[start:off]) + 1}
+	start, col := b.lines[i], 1
+	// The JSON walk asks for increasing offsets: count on from the last
+	// answer on the same line, so that a long one-line file stays linear.
+	if c := b.lastPos; c.col > 0 && c.line == i && c.off >= start && c.off <= off {
+		start, col = c.off, c.col
+	}
+	col += utf8.RuneCount(data[start:off])
+	b.lastPos = posCache{line: i, off: off, col: col}
+	return Pos{Line: i + 1, Column: col}
 }
+
+// posCache is the last answer of posAt: 0-based line, offset, column.
+type posCache struct{ line, off, col int }
 
 func byteSize(n int64) string {
 	switch {
