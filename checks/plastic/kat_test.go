@@ -75,6 +75,11 @@ var katMonotonicCases = []katMonotonic{
 		source: "Voce 1948 with Q < 0 (cyclic softening form, Lemaitre and Chaboche 1990, ch. 5)",
 	},
 	{
+		name: "armstrong-frederick-plus-linear-isotropic", terms: []Term{{C: 40e9, Gamma: 300}}, iso: Isotropic{Kind: IsoLinear, K: 1.5e9}, epsMax: 0.04, inc: 2e-3,
+		want: afVoce, tol: 1e-12, // round-off
+		source: "Armstrong and Frederick 1966 with linear isotropic hardening R = K p (Lemaitre and Chaboche 1990, ch. 5)",
+	},
+	{
 		name: "linear-isotropic-plus-prager", terms: []Term{{C: 3e9}}, iso: Isotropic{Kind: IsoLinear, K: 1e9}, epsMax: 0.03, inc: 1e-3,
 		want: afVoce, tol: 1e-13, // round-off, linear consistency
 		source: "Lubliner, Plasticity Theory, 1990, ch. 3 (combined linear hardening, slope H + K in stress vs plastic strain)",

@@ -73,7 +73,10 @@ type Material struct {
 	g, bulk float64 // shear and bulk modulus
 	hLin    float64 // sum of C over linear terms
 	nAF     int
-	af      [MaxTerms]int8 // indices of Armstrong-Frederick terms
+	af      [MaxTerms]int8    // indices of Armstrong-Frederick terms
+	afC     [MaxTerms]float64 // C, gamma and C/gamma of the AF terms, compact
+	afG     [MaxTerms]float64
+	afA     [MaxTerms]float64
 	nLin    int
 	lin     [MaxTerms]int8 // indices of linear terms
 	linear  bool           // no AF term and no Voce: consistency is linear in dp
@@ -131,6 +134,7 @@ func NewMaterial(E, nu, sigmaY float64, terms []Term, iso Isotropic) (Material, 
 			m.hLin += t.C
 		} else {
 			m.af[m.nAF] = int8(i)
+			m.afC[m.nAF], m.afG[m.nAF], m.afA[m.nAF] = t.C, t.Gamma, t.C/t.Gamma
 			m.nAF++
 		}
 	}
@@ -232,4 +236,15 @@ func (m *Material) mustBeValid() {
 	if !m.valid {
 		panic("plastic: Material not built by NewMaterial")
 	}
+}
+
+// expStep returns exp(x). For |x| <= 1e-3 it sums the Taylor series to x^5
+// (truncation below x^6/720 ~ 1.4e-21, under the round-off of math.Exp),
+// which is several times cheaper; the iterations on dp use it to move the
+// factors exp(-gamma dp) by the small corrections of late iterates.
+func expStep(x float64) float64 {
+	if x > 1e-3 || x < -1e-3 {
+		return math.Exp(x)
+	}
+	return 1 + x*(1+x*(0.5+x*(1.0/6+x*(1.0/24+x*(1.0/120)))))
 }

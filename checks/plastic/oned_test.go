@@ -35,7 +35,9 @@ func TestExact1DIncrementIndependence(t *testing.T) {
 		for _, target := range []float64{0.03, -0.03} {
 			one, _, _ := run1D(t, &m, start, Path1D{Targets: []float64{target}, MaxIncrement: 1}, nil)
 			many, _, _ := run1D(t, &m, start, Path1D{Targets: []float64{target}, MaxIncrement: math.Abs(target-start.Eps) / 1000 * 1.0000001}, nil)
-			if d := maxRelDiff1D(many, one, m.SigmaY); d > 1e-12 {
+			d := maxRelDiff1D(many, one, m.SigmaY)
+			t.Logf("%s, to %g: 1 vs 1000 increments: %.3g", name, target, d)
+			if d > 1e-12 {
 				t.Errorf("%s, to %g: 1 vs 1000 increments differ by %.3g > 1e-12\n(-want +got):\n%s", name, target, d,
 					cmp.Diff(stateVec1D(many), stateVec1D(one), cmpopts.EquateApprox(1e-12, 0)))
 			}
@@ -68,7 +70,8 @@ func TestBackwardEuler1DFirstOrder(t *testing.T) {
 // central finite differences (gonum diff/fd), for both algorithms, on
 // plastic increments in both directions. Tolerance 1e-7 relative: the
 // step 1e-6 against increments of 3e-3 to 1e-2 gives a truncation error of
-// order (1e-6/3e-3)^2 = 1e-7 times sigma”' / sigma' (much less here), and
+// order (1e-6/3e-3)^2 = 1e-7 times the ratio of the third derivative of
+// sigma to the first (much less than 1 here), and
 // keeps the noise of the dp iteration (stopped at 1e-14 dp, about 1e-5 Pa)
 // at 1e-5 Pa / 2e-6 = 5 Pa, below 1e-9 of the tangent.
 func TestTangent1D(t *testing.T) {

@@ -82,7 +82,7 @@ type Result struct {
 }
 
 // Err returns Status.Err().
-func (r *Result) Err() error { return r.Status.Err() }
+func (r Result) Err() error { return r.Status.Err() }
 
 // PathError is a driver failure located on the load path. It wraps the
 // status's sentinel error.

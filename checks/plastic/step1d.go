@@ -80,8 +80,9 @@ func (m *Material) Dissipation1D(prev, next *State1D) float64 {
 // R is the closed form in both. g is decreasing (g' = -(E + h) with the
 // plastic modulus h > -E by the NewMaterial preconditions) and g(0) > 0; dp
 // is found by Halley's method from dp = 0, kept inside a bracket [lo, hi]
-// that every evaluation narrows (bisection when an iterate leaves it), to a
-// step below 1e-14 dp (round-off). Then
+// that every evaluation narrows (bisection when an iterate leaves it), until
+// the Newton correction |g/g'| is below 1e-14 dp (round-off). Without Armstrong-Frederick terms and
+// Voce hardening g is linear and dp = f_tr / (E + sum H + K) at once. Then
 //
 //	sigma = sigma_tr - n E dp,  eps_p += n dp,  p += dp,
 //	tangent = E h / (E + h),    h = -g'(dp) - E,
@@ -124,76 +125,53 @@ func (m *Material) Step1D(dst, src *State1D, dEps float64, set *Settings) (StepI
 	}
 	exact := set.alg() == Exact
 
-	// Per-term constants. nAlpha[i] = n alpha_i,n; for AF bExp = n alpha_n - C/gamma.
-	var nAlpha [MaxTerms]float64
-	var bExp [MaxTerms]float64
-	linSum := 0.0 // n * sum of linear alpha_n
+	// Per-term constants: nAlpha = n alpha_n, and for Exact b = n alpha_n - C/gamma.
+	var nAlpha, b, e [MaxTerms]float64 // e: exp(-gamma dp) (Exact) or 1/(1+gamma dp) at the current dp
+	linSum := 0.0                      // n * sum of linear alpha_n
 	for j := 0; j < m.nLin; j++ {
 		linSum += n * s.Alpha[m.lin[j]]
 	}
-	for j := 0; j < m.nAF; j++ {
-		i := m.af[j]
-		nAlpha[j] = n * s.Alpha[i]
-		t := m.Terms[i]
-		bExp[j] = nAlpha[j] - t.C/t.Gamma
+	nAF := m.nAF
+	for j := 0; j < nAF; j++ {
+		nAlpha[j] = n * s.Alpha[m.af[j]]
+		b[j] = nAlpha[j] - m.afA[j]
+		e[j] = 1
+	}
+	// Voce: exp(-B (p + dp)) = eP * eR, eR = exp(-B dp) at the current dp.
+	voce := m.Iso.Kind == IsoVoce
+	eP, eR := 0.0, 1.0
+	if voce {
+		eP = math.Exp(-m.Iso.B * s.P)
+	}
+	kLin := 0.0
+	if m.Iso.Kind == IsoLinear {
+		kLin = m.Iso.K
 	}
 	nSig := n * sigTr
-	var eAF [MaxTerms]float64 // exp(-gamma dp) or 1/(1+gamma dp) at the current dp
-
-	// eval returns g, g', g'' at dp and fills eAF.
-	eval := func(dp float64) (g, g1, g2 float64) {
-		r, r1, r2 := m.rDeriv(s.P + dp)
-		g = nSig - m.E*dp - linSum - m.hLin*dp - m.SigmaY - r
-		g1 = -m.E - m.hLin - r1
-		g2 = -r2
-		if exact {
-			for j := 0; j < m.nAF; j++ {
-				gam := m.Terms[m.af[j]].Gamma
-				e := math.Exp(-gam * dp)
-				eAF[j] = e
-				be := bExp[j] * e
-				g -= m.Terms[m.af[j]].C/gam + be
-				g1 += gam * be
-				g2 -= gam * gam * be
-			}
-		} else {
-			for j := 0; j < m.nAF; j++ {
-				t := m.Terms[m.af[j]]
-				q := 1 / (1 + t.Gamma*dp)
-				eAF[j] = q
-				// n alpha = (n alpha_n + C dp) q; d/d dp = (C - gamma n alpha_n) q^2
-				c := (t.C - t.Gamma*nAlpha[j]) * q * q
-				g -= (nAlpha[j] + t.C*dp) * q
-				g1 -= c
-				g2 += 2 * t.Gamma * c * q
-			}
-		}
-		return g, g1, g2
-	}
+	hLin := m.hLin + kLin
 
 	dp := 0.0
 	it := 0
-	var g1 float64
+	// g' at dp = 0 (e = q = 1), the same for both algorithms; r1 = R'(p)
+	// includes the linear isotropic modulus.
+	g1 := -m.E - m.hLin - r1
+	for j := 0; j < nAF; j++ {
+		g1 -= m.afC[j] - m.afG[j]*nAlpha[j]
+	}
 	if m.linear {
 		// No AF term, no Voce: g is linear in dp and one step is exact.
-		g1 = -m.E - m.hLin - r1
 		dp = -f / g1
 		it = 1
 	} else {
-		// Derivatives at dp = 0 (e = q = 1): the same for both algorithms in
-		// g', twice as large in g'' for backward Euler.
+		// g'' at dp = 0: twice as large for backward Euler.
 		g := f
-		g1 = -m.E - m.hLin - r1
 		g2 := -r2
 		c2 := 1.0
 		if !exact {
 			c2 = 2
 		}
-		for j := 0; j < m.nAF; j++ {
-			t := m.Terms[m.af[j]]
-			c := t.C - t.Gamma*nAlpha[j]
-			g1 -= c
-			g2 += c2 * t.Gamma * c
+		for j := 0; j < nAF; j++ {
+			g2 += c2 * m.afG[j] * (m.afC[j] - m.afG[j]*nAlpha[j])
 		}
 		lo, hi := 0.0, math.Inf(1)
 		maxIter := set.maxIter()
@@ -217,14 +195,50 @@ func (m *Material) Step1D(dst, src *State1D, dEps float64, set *Settings) (StepI
 				}
 			}
 			small := math.Abs(next-dp) <= 1e-14*next
+			delta := next - dp
 			dp = next
-			g, g1, g2 = eval(dp)
+
+			// g, g', g'' at dp.
+			g = nSig - (m.E+m.hLin)*dp - linSum - m.SigmaY - kLin*(s.P+dp)
+			g1 = -m.E - hLin
+			g2 = 0
+			if voce {
+				eR *= expStep(-m.Iso.B * delta)
+				w := eP * eR
+				g -= m.Iso.Q * (1 - w)
+				qb := m.Iso.Q * m.Iso.B * w
+				g1 -= qb
+				g2 += qb * m.Iso.B
+			}
+			if exact {
+				for j := 0; j < nAF; j++ {
+					gam := m.afG[j]
+					e[j] *= expStep(-gam * delta)
+					be := b[j] * e[j]
+					g -= m.afA[j] + be
+					g1 += gam * be
+					g2 -= gam * gam * be
+				}
+			} else {
+				for j := 0; j < nAF; j++ {
+					gam, c := m.afG[j], m.afC[j]
+					q := 1 / (1 + gam*dp)
+					e[j] = q
+					// n alpha = (n alpha_n + C dp) q; d/d dp = (C - gamma n alpha_n) q^2
+					cq := (c - gam*nAlpha[j]) * q * q
+					g -= (nAlpha[j] + c*dp) * q
+					g1 -= cq
+					g2 += 2 * gam * cq * q
+				}
+			}
 			if g > 0 {
 				lo = dp
 			} else {
 				hi = dp
 			}
-			if small || g == 0 || (hi < math.MaxFloat64 && hi-lo <= 1e-15*hi) {
+			// Converged when the Newton correction from dp (an estimate of
+			// its error) is at round-off, or the bracket has closed.
+			if small || math.Abs(g) <= -1e-14*dp*g1 || (hi < math.MaxFloat64 && hi-lo <= 1e-15*hi) {
 				converged = true
 				break
 			}
@@ -242,13 +256,12 @@ func (m *Material) Step1D(dst, src *State1D, dEps float64, set *Settings) (StepI
 		i := m.lin[j]
 		s.Alpha[i] += n * m.Terms[i].C * dp
 	}
-	for j := 0; j < m.nAF; j++ {
+	for j := 0; j < nAF; j++ {
 		i := m.af[j]
-		t := m.Terms[i]
 		if exact {
-			s.Alpha[i] = n * (t.C/t.Gamma + bExp[j]*eAF[j])
+			s.Alpha[i] = n * (m.afA[j] + b[j]*e[j])
 		} else {
-			s.Alpha[i] = (s.Alpha[i] + n*t.C*dp) * eAF[j]
+			s.Alpha[i] = (s.Alpha[i] + n*m.afC[j]*dp) * e[j]
 		}
 	}
 	s.Eps += dEps

@@ -368,26 +368,46 @@ func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float
 	var nxi float64
 
 	// eval sets phi, xiT, v, nxi and returns r and Dr = -r'.
-	eval := func(dp float64) (r, dr float64) {
+	// Voce: exp(-B (p + dp)) = eP * eR with eR = exp(-B dp) carried along.
+	voce := m.Iso.Kind == IsoVoce
+	eP, eR := 0.0, 1.0
+	if voce {
+		eP = math.Exp(-m.Iso.B * src.P)
+	}
+	kLin := 0.0
+	if m.Iso.Kind == IsoLinear {
+		kLin = m.Iso.K
+	}
+	for j := 0; j < m.nAF; j++ {
+		phi[j] = 1
+	}
+	// eval moves dp by delta, updates phi, xiT, v, nxi and returns r and
+	// Dr = -r'.
+	eval := func(dp, delta float64) (r, dr float64) {
 		xiT = xi0
 		v = [6]float64{}
-		r0, r1, _ := m.rDeriv(src.P + dp)
-		psi := (3*G+m.hLin)*dp + m.SigmaY + r0
-		dpsi := 3*G + m.hLin + r1
+		psi := (3*G+m.hLin)*dp + m.SigmaY + kLin*(src.P+dp)
+		dpsi := 3*G + m.hLin + kLin
+		if voce {
+			eR *= expStep(-m.Iso.B * delta)
+			w := eP * eR
+			psi += m.Iso.Q * (1 - w)
+			dpsi += m.Iso.Q * m.Iso.B * w
+		}
 		for j := 0; j < m.nAF; j++ {
-			t := m.Terms[m.af[j]]
+			c, gam := m.afC[j], m.afG[j]
 			x := &src.X[m.af[j]]
 			var ph, dph float64 // phi, -phi'
 			if exact {
-				ph = math.Exp(-t.Gamma * dp)
-				dph = t.Gamma * ph
-				psi += t.C / t.Gamma * (1 - ph)
-				dpsi += t.C * ph
+				ph = phi[j] * expStep(-gam*delta)
+				dph = gam * ph
+				psi += m.afA[j] * (1 - ph)
+				dpsi += c * ph
 			} else {
-				ph = 1 / (1 + t.Gamma*dp)
-				dph = t.Gamma * ph * ph
-				psi += t.C * dp * ph
-				dpsi += t.C * ph * ph
+				ph = 1 / (1 + gam*dp)
+				dph = gam * ph * ph
+				psi += c * dp * ph
+				dpsi += c * ph * ph
 			}
 			phi[j] = ph
 			for k := 0; k < 6; k++ {
@@ -409,11 +429,10 @@ func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float
 	_, r1, _ := m.rDeriv(src.P)
 	dr := 3*G + m.hLin + r1
 	for j := 0; j < m.nAF; j++ {
-		t := m.Terms[m.af[j]]
-		dr += t.C
+		dr += m.afC[j]
 		x := &src.X[m.af[j]]
 		for k := 0; k < 6; k++ {
-			v[k] += t.Gamma * x[k]
+			v[k] += m.afG[j] * x[k]
 		}
 	}
 	dr -= s32 * Contract(xiTr, v) / nxi
@@ -439,14 +458,17 @@ func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float
 			}
 		}
 		small := math.Abs(next-dp) <= 1e-14*math.Abs(next)
+		delta := next - dp
 		dp = next
-		r, dr = eval(dp)
+		r, dr = eval(dp, delta)
 		if r > 0 {
 			lo = dp
 		} else {
 			hi = dp
 		}
-		if (m.linear && math.Abs(r) <= 1e-13*m.SigmaY) || small || r == 0 || (hi < math.MaxFloat64 && hi-lo <= 1e-15*hi) {
+		// Converged when the Newton correction from dp is at round-off (or
+		// the bracket has closed).
+		if (m.linear && math.Abs(r) <= 1e-13*m.SigmaY) || small || math.Abs(r) <= 1e-14*math.Abs(dp)*dr || (hi < math.MaxFloat64 && hi-lo <= 1e-15*hi) {
 			converged = true
 			break
 		}
