@@ -121,3 +121,15 @@ func TestKnownAnswersMonotonic(t *testing.T) {
 		})
 	}
 }
+
+// TestExpStep: the small-argument series of expStep agrees with math.Exp to
+// round-off. Bound: the Taylor remainder after x^5 is below x^6/720 <=
+// 1.4e-21 for |x| <= 1e-3 (Lagrange remainder), so the difference is the
+// round-off of the two evaluations, a few ulp (4e-16 allowed).
+func TestExpStep(t *testing.T) {
+	for _, x := range []float64{-1e-3, -7.3e-4, -1e-5, -1e-12, 0, 3e-9, 2.2e-4, 1e-3, -0.05, 2} {
+		if got, want := expStep(x), math.Exp(x); relErr(got, want) > 4e-16 {
+			t.Errorf("expStep(%g) = %.17g, math.Exp = %.17g", x, got, want)
+		}
+	}
+}

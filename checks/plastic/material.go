@@ -192,19 +192,6 @@ func (m *Material) R(p float64) float64 {
 	return 0
 }
 
-// rDeriv returns R(p), R'(p) and R”(p).
-func (m *Material) rDeriv(p float64) (r, r1, r2 float64) {
-	switch m.Iso.Kind {
-	case IsoLinear:
-		return m.Iso.K * p, m.Iso.K, 0
-	case IsoVoce:
-		e := math.Exp(-m.Iso.B * p)
-		qb := m.Iso.Q * m.Iso.B
-		return m.Iso.Q * (1 - e), qb * e, -qb * m.Iso.B * e
-	}
-	return 0, 0, 0
-}
-
 // YieldRadius returns the uniaxial yield stress sigmaY + R(p) at accumulated
 // plastic strain p.
 func (m *Material) YieldRadius(p float64) float64 { return m.SigmaY + m.R(p) }

@@ -108,7 +108,18 @@ func (m *Material) Step1D(dst, src *State1D, dEps float64, set *Settings) (StepI
 	s := *src
 	sigTr := s.Sigma + m.E*dEps
 	xi := sigTr - s.BackStress(m.N)
-	r0, r1, r2 := m.rDeriv(s.P)
+	// R and its derivatives at p; eP = exp(-B p) is kept for the Voce
+	// factor of the iterations.
+	voce := m.Iso.Kind == IsoVoce
+	var r0, r1, r2, eP float64
+	if voce {
+		eP = math.Exp(-m.Iso.B * s.P)
+		r0 = m.Iso.Q * (1 - eP)
+		r1 = m.Iso.Q * m.Iso.B * eP
+		r2 = -r1 * m.Iso.B
+	} else if m.Iso.Kind == IsoLinear {
+		r0, r1 = m.Iso.K*s.P, m.Iso.K
+	}
 	f := math.Abs(xi) - (m.SigmaY + r0)
 	if !(f > 0) {
 		if math.IsNaN(f) {
@@ -138,11 +149,7 @@ func (m *Material) Step1D(dst, src *State1D, dEps float64, set *Settings) (StepI
 		e[j] = 1
 	}
 	// Voce: exp(-B (p + dp)) = eP * eR, eR = exp(-B dp) at the current dp.
-	voce := m.Iso.Kind == IsoVoce
-	eP, eR := 0.0, 1.0
-	if voce {
-		eP = math.Exp(-m.Iso.B * s.P)
-	}
+	eR := 1.0
 	kLin := 0.0
 	if m.Iso.Kind == IsoLinear {
 		kLin = m.Iso.K

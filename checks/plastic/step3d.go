@@ -347,7 +347,16 @@ func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float
 		}
 	}
 	const s32 = 1.2247448713915890491 // sqrt(3/2)
-	f := s32*math.Sqrt(Contract(xiTr, xiTr)) - m.YieldRadius(src.P)
+	// R(p) and R'(p); eP = exp(-B p) is kept for the Voce factor.
+	voce := m.Iso.Kind == IsoVoce
+	var rP, r1, eP float64
+	if voce {
+		eP = math.Exp(-m.Iso.B * src.P)
+		rP, r1 = m.Iso.Q*(1-eP), m.Iso.Q*m.Iso.B*eP
+	} else if m.Iso.Kind == IsoLinear {
+		rP, r1 = m.Iso.K*src.P, m.Iso.K
+	}
+	f := s32*math.Sqrt(Contract(xiTr, xiTr)) - (m.SigmaY + rP)
 	if !(f > 0) && !(project && f < 0) {
 		if math.IsNaN(f) {
 			return StepInfo{}, ErrInvalidInput
@@ -369,11 +378,7 @@ func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float
 
 	// eval sets phi, xiT, v, nxi and returns r and Dr = -r'.
 	// Voce: exp(-B (p + dp)) = eP * eR with eR = exp(-B dp) carried along.
-	voce := m.Iso.Kind == IsoVoce
-	eP, eR := 0.0, 1.0
-	if voce {
-		eP = math.Exp(-m.Iso.B * src.P)
-	}
+	eR := 1.0
 	kLin := 0.0
 	if m.Iso.Kind == IsoLinear {
 		kLin = m.Iso.K
@@ -426,7 +431,6 @@ func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float
 	nxi = math.Sqrt(Contract(xiTr, xiTr))
 	xiT = xiTr
 	r := f
-	_, r1, _ := m.rDeriv(src.P)
 	dr := 3*G + m.hLin + r1
 	for j := 0; j < m.nAF; j++ {
 		dr += m.afC[j]
