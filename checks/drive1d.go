@@ -221,20 +221,23 @@ func (d *path1D) solveStress(sig, tol float64) (float64, error) {
 	return 0, fmt.Errorf("stress target %g Pa at strain %g: %w", sig, d.st.Eps, plastic.ErrNotConverged)
 }
 
-// downsample returns at most max samples of pts, evenly strided, keeping
-// the first and the last.
+// downsample returns at most limit samples of pts: all of them when they
+// fit, else the first and the last limit/2 at full resolution. A long cyclic
+// history then shows its first cycles (virgin loading, transients) and its
+// last, stabilized ones as they were integrated; an even stride would alias
+// the loops of many cycles into a zigzag.
 func downsample[T any](pts []T, limit int, conv func(*T) Sample) []Sample {
-	if len(pts) == 0 {
-		return nil
+	keep := func(i int) bool { return i < limit/2 || i >= len(pts)-limit/2 }
+	if len(pts) <= limit {
+		keep = func(int) bool { return true }
 	}
-	stride := (len(pts) + limit - 2) / (limit - 1)
-	stride = max(stride, 1)
-	out := make([]Sample, 0, len(pts)/stride+2)
-	for i := 0; i < len(pts); i += stride {
-		out = append(out, conv(&pts[i]))
-	}
-	if (len(pts)-1)%stride != 0 {
-		out = append(out, conv(&pts[len(pts)-1]))
+	out := make([]Sample, 0, min(len(pts), limit))
+	for i := range pts {
+		if keep(i) {
+			smp := conv(&pts[i])
+			smp.Gap = i > 0 && !keep(i-1)
+			out = append(out, smp)
+		}
 	}
 	return out
 }

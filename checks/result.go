@@ -58,8 +58,10 @@ type Case struct {
 	// Measures are reported numbers that are not checks (RMS errors,
 	// counts), for the auditor.
 	Measures []Measure `json:"measures,omitempty"`
-	Series   []Sample  `json:"series"`
-	Curves   []Curve   `json:"curves,omitempty"`
+	// Series is the response for plots: every increment, or for a long
+	// run its first and last 200 increments (see downsample).
+	Series []Sample `json:"series"`
+	Curves []Curve  `json:"curves,omitempty"`
 
 	tracked []tracked // quantities compared by the convergence rerun only
 }
@@ -109,6 +111,9 @@ type Sample struct {
 	P             float64 `json:"accumulated_plastic_strain"`
 	ShearStrain   float64 `json:"shear_strain,omitempty"`
 	ShearStress   float64 `json:"shear_stress,omitempty"`
+	// Gap marks the first sample after increments left out of the series:
+	// a plot starts a new line here.
+	Gap bool `json:"gap,omitempty"`
 }
 
 // Curve is an overlay for plots: a closed-form curve or a reference curve,
