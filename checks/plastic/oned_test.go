@@ -138,6 +138,23 @@ func TestDriverErrors(t *testing.T) {
 	if s != (State1D{}) {
 		t.Errorf("canceled before the first increment, state changed: %+v", s)
 	}
+	// Cancel from the visitor after 7 increments: the driver stops before
+	// the next increment, with the state of the 7th.
+	{
+		ctx, cancel := context.WithCancel(context.Background())
+		defer cancel()
+		s := State1D{}
+		var seen State1D
+		res, err := m.Run1D(ctx, &s, &Path1D{Targets: []float64{0.01}, MaxIncrement: 1e-4}, nil, func(i int, st *State1D) {
+			if i == 6 {
+				seen = *st
+				cancel()
+			}
+		})
+		if !errors.Is(err, ErrCanceled) || res.Increments != 7 || s != seen {
+			t.Errorf("cancel after 7 increments: err %v, increments %d, state kept %v", err, res.Increments, s == seen)
+		}
+	}
 	for _, p := range []Path1D{
 		{Targets: []float64{0.01}, MaxIncrement: 0},
 		{Targets: []float64{math.NaN()}, MaxIncrement: 1e-4},
