@@ -46,6 +46,9 @@ type Outputs struct {
 	Record *checks.Record
 	Card   []byte          // the neutral card: the canonical card, indented JSON
 	Tables []convert.Table // tabulated curves of the neutral card
+	// Diagnoses say, for each failed reference curve, which usual
+	// misreading of the card makes it match, if any (see Diagnose).
+	Diagnoses []Diagnosis
 }
 
 // Verify runs the standard verification of a canonical card and builds its
@@ -59,6 +62,10 @@ func Verify(ctx context.Context, c *schema.Card, tool checks.Tool, created time.
 	res, err := checks.Run(ctx, spec)
 	if err != nil {
 		return nil, fmt.Errorf("verify %s: %w", c.ID, err)
+	}
+	diags, err := Diagnose(ctx, c, spec, res)
+	if err != nil {
+		return nil, fmt.Errorf("diagnose %s: %w", c.ID, err)
 	}
 	canon, err := convert.Canonical(c)
 	if err != nil {
@@ -76,5 +83,5 @@ func Verify(ctx context.Context, c *schema.Card, tool checks.Tool, created time.
 	if err != nil {
 		return nil, err
 	}
-	return &Outputs{Record: rec, Card: card, Tables: tables}, nil
+	return &Outputs{Record: rec, Card: card, Tables: tables, Diagnoses: diags}, nil
 }
