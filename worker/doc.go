@@ -1,4 +1,11 @@
-// Package worker runs the verification of a card: the one function that
-// both the in-process path (matgate verify) and the queue service use, so
-// that both give the same record and the same neutral card.
+// Package worker verifies cards and runs the queue service around that one
+// verification: Verify (used by both matgate verify and the queue), the
+// asynq verification and materialize tasks and their idempotent handlers,
+// the durable file record store with its hash-chained ledger, the HTTP API
+// of matgate serve (auth, problem details, metrics) and the submit client.
+//
+// The queue only moves the payload and stores the outputs: a worker decodes
+// the canonical card of its task, calls Verify, writes the record and the
+// neutral card to Redis create-if-absent and hands them to serve, the only
+// writer of the records directory, with a materialize task.
 package worker

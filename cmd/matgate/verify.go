@@ -12,6 +12,7 @@ import (
 
 	"matgate/checks"
 	"matgate/worker"
+	"matgate/worker/report"
 )
 
 // commit is stamped at build time with -ldflags "-X main.commit=...".
@@ -20,7 +21,7 @@ var commit = "unknown"
 func newVerifyCmd(e *env) *cobra.Command {
 	var (
 		outDir, junitPath, signKey, format string
-		report                             bool
+		withReport                         bool
 	)
 	c := &cobra.Command{
 		Use:   "verify FILE|DIR|-...",
@@ -64,7 +65,7 @@ references; it does not show fitness for design.`,
 				if len(names) > 1 {
 					fmt.Fprintf(e.stderr, "[%d/%d] %s\n", i+1, len(names), n)
 				}
-				o := verifyOne(cmd, e, n, outDir, report, priv)
+				o := verifyOne(cmd, e, n, outDir, withReport, priv)
 				sum.add(o)
 				if format == "text" {
 					o.print(e)
@@ -91,7 +92,7 @@ references; it does not show fitness for design.`,
 		},
 	}
 	c.Flags().StringVar(&outDir, "out", "matgate-out", "directory for records, neutral cards, tables and reports")
-	c.Flags().BoolVar(&report, "report", false, "also write an HTML report with plots of every case")
+	c.Flags().BoolVar(&withReport, "report", false, "also write an HTML report with plots of every case")
 	c.Flags().StringVar(&junitPath, "junit", "", "write JUnit XML to this file (one test case a check)")
 	c.Flags().StringVar(&signKey, "sign-key", "", "sign each record with this ed25519 private key (PEM, PKCS #8)")
 	c.Flags().StringVar(&format, "format", "text", "output format: text or json")
@@ -112,7 +113,7 @@ type verifyOutcome struct {
 	record *checks.Record
 }
 
-func verifyOne(cmd *cobra.Command, e *env, name, outDir string, report bool, priv ed25519.PrivateKey) verifyOutcome {
+func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool, priv ed25519.PrivateKey) verifyOutcome {
 	l := loadCard(e, name)
 	o := verifyOutcome{File: l.file}
 	for _, d := range l.diags {
@@ -159,8 +160,8 @@ func verifyOne(cmd *cobra.Command, e *env, name, outDir string, report bool, pri
 	for _, t := range out.Tables {
 		files[base+"."+t.Name+".csv"] = t.CSV()
 	}
-	if report {
-		html, err := renderReport(out.Record)
+	if withReport {
+		html, err := report.Render(out.Record)
 		if err != nil {
 			return fail(err)
 		}

@@ -1,10 +1,11 @@
-package main
+package report
 
 import (
 	"bytes"
 	"fmt"
 	"html/template"
 	"image/color"
+	"strconv"
 	"strings"
 
 	"gonum.org/v1/plot"
@@ -25,10 +26,10 @@ var (
 	}
 )
 
-// renderReport returns a self-contained HTML page of a record: the verdict,
+// Render returns a self-contained HTML page of a record: the verdict,
 // the caution, the settings, and per case its checks and an SVG plot of the
 // response with any closed-form or reference overlays. It needs no network.
-func renderReport(rec *checks.Record) ([]byte, error) {
+func Render(rec *checks.Record) ([]byte, error) {
 	type caseView struct {
 		checks.Case
 		Plots []template.HTML
@@ -138,8 +139,11 @@ func buildPlot(c checks.Case, shear bool) (*plot.Plot, error) {
 	return p, nil
 }
 
+// g prints a number with 8 significant digits, as the JUnit output does.
+func g(v float64) string { return strconv.FormatFloat(v, 'g', 8, 64) }
+
 var reportTemplate = template.Must(template.New("report").Funcs(template.FuncMap{
-	"g": func(v float64) string { return g(v) },
+	"g": g,
 }).Parse(`<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8">
 <title>matgate record {{.R.Card.ID}} r{{.R.Card.Revision}}</title>

@@ -1,0 +1,293 @@
+package worker
+
+import (
+	"context"
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"sync"
+	"sync/atomic"
+	"testing"
+	"time"
+
+	"github.com/hibiken/asynq"
+	"github.com/redis/go-redis/v9"
+
+	"matgate/checks"
+	"matgate/convert"
+	"matgate/schema"
+)
+
+var testTool = checks.Tool{Version: "test", Commit: "none"}
+
+// demoCards are the demo cards of testdata/cards (an invented scenario).
+var demoCards = []string{"al-bilinear.yaml", "ss-chaboche.yaml", "steel-prager.json"}
+
+// loadTestCard decodes and prepares a card file as matgate verify does.
+func loadTestCard(t testing.TB, path string) *schema.Card {
+	t.Helper()
+	b, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return prepareTestCard(t, path, b)
+}
+
+func prepareTestCard(t testing.TB, name string, b []byte) *schema.Card {
+	t.Helper()
+	doc, err := schema.Decode(name, b, nil)
+	if err != nil {
+		t.Fatalf("%s: %v", name, err)
+	}
+	c, ds := convert.Prepare(doc, nil)
+	if c == nil {
+		t.Fatalf("%s: %v", name, ds)
+	}
+	return c
+}
+
+// queueStack is a worker and a materializer on one private Redis, in this
+// process.
+type queueStack struct {
+	redis  *testRedis
+	rdb    *redis.Client
+	client *asynq.Client
+	insp   *asynq.Inspector
+	store  *DirStore
+	dir    string
+	runs   atomic.Int64 // verifications the handler ran (not skipped)
+}
+
+func newQueueStack(t *testing.T, r *testRedis, workers bool) *queueStack {
+	t.Helper()
+	if r == nil {
+		r = startRedis(t)
+	}
+	s := &queueStack{redis: r, rdb: r.client(t), dir: t.TempDir()}
+	s.client = asynq.NewClientFromRedisClient(s.rdb)
+	s.insp = asynq.NewInspectorFromRedisClient(s.rdb)
+	t.Cleanup(func() { s.client.Close(); s.insp.Close() })
+	var err error
+	if s.store, err = OpenDirStore(s.dir); err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { s.store.Close() })
+	if workers {
+		s.startWorker(t)
+		s.startMaterializer(t)
+	}
+	return s
+}
+
+var quiet = ServerOptions{CheckInterval: 20 * time.Millisecond, LogLevel: asynq.FatalLevel, ShutdownTimeout: 5 * time.Second}
+
+func (s *queueStack) handler() *Handler {
+	return &Handler{Redis: s.rdb, Queue: s.client, Tool: testTool}
+}
+
+func (s *queueStack) startWorker(t *testing.T) {
+	h := s.handler()
+	counted := asynq.HandlerFunc(func(ctx context.Context, task *asynq.Task) error {
+		s.runs.Add(1)
+		return h.ProcessTask(ctx, task)
+	})
+	o := quiet
+	o.Concurrency = 2
+	srv, _ := NewVerifyServer(s.rdb, h, o)
+	mux := asynq.NewServeMux()
+	mux.Handle(TypeVerify, counted)
+	if err := srv.Start(mux); err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(srv.Shutdown)
+}
+
+func (s *queueStack) startMaterializer(t *testing.T) *asynq.Server {
+	srv, mux := NewMaterializeServer(s.rdb, &Materializer{Redis: s.rdb, Store: s.store}, quiet)
+	if err := srv.Start(mux); err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(srv.Shutdown)
+	return srv
+}
+
+// waitStored waits until the store holds every id, or fails after limit.
+func (s *queueStack) waitStored(t *testing.T, limit time.Duration, ids ...string) {
+	t.Helper()
+	deadline := time.Now().Add(limit)
+	for _, id := range ids {
+		for !s.store.Has(id) {
+			if time.Now().After(deadline) {
+				info, err := s.insp.GetTaskInfo(QueueVerify, id)
+				if err == nil {
+					t.Fatalf("record %s not stored after %v: task %v, %d retries, last error %q", id, limit, info.State, info.Retried, info.LastErr)
+				}
+				t.Fatalf("record %s not stored after %v (task: %v)", id, limit, err)
+			}
+			time.Sleep(10 * time.Millisecond)
+		}
+	}
+}
+
+// recordWithout decodes a record and drops the fields that differ between
+// two runs of the same verification: created and so the digest.
+func recordWithout(t *testing.T, b []byte) string {
+	t.Helper()
+	var m map[string]any
+	if err := json.Unmarshal(b, &m); err != nil {
+		t.Fatal(err)
+	}
+	delete(m, "created")
+	delete(m, "digest")
+	out, _ := json.Marshal(m)
+	return string(out)
+}
+
+// TestQueueMatchesInProcess sends the demo cards through the queue: each
+// record in the store equals the in-process Verify's apart from created
+// and digest, the neutral card is byte for byte the same, and the ledger
+// verifies.
+func TestQueueMatchesInProcess(t *testing.T) {
+	s := newQueueStack(t, nil, true)
+	var ids []string
+	want := map[string]*Outputs{}
+	for _, f := range demoCards {
+		c := loadTestCard(t, filepath.Join("..", "testdata", "cards", f))
+		task, id, err := NewVerifyTask(c, Settings{ToolVersion: testTool.Version}, TaskTimeout(DefaultBudget))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, err := s.client.Enqueue(task); err != nil {
+			t.Fatal(err)
+		}
+		ids = append(ids, id)
+		if want[id], err = Verify(context.Background(), c, testTool, time.Now()); err != nil {
+			t.Fatal(err)
+		}
+	}
+	s.waitStored(t, time.Minute, ids...)
+	for _, id := range ids {
+		rec, err := s.store.Record(id)
+		if err != nil {
+			t.Fatal(err)
+		}
+		wantRec, _ := RecordJSON(want[id].Record)
+		if recordWithout(t, rec) != recordWithout(t, wantRec) {
+			t.Errorf("%s: queued record differs from the in-process one beyond created and digest", id)
+		}
+		card, _ := s.store.Card(id)
+		if string(card) != string(want[id].Card) {
+			t.Errorf("%s: queued neutral card differs from the in-process one", id)
+		}
+	}
+	rep, err := VerifyLedger(s.dir)
+	if err != nil || rep.Break != nil || rep.Entries != len(ids) || rep.Files != 2*len(ids) {
+		t.Errorf("ledger: %+v, %v", rep, err)
+	}
+}
+
+// TestHandlerIdempotent runs the same task through the handler three times,
+// twice of them at once: one verification, one record, one materialize
+// task, and the record is the first one written.
+func TestHandlerIdempotent(t *testing.T) {
+	s := newQueueStack(t, nil, false)
+	c := loadTestCard(t, "../testdata/cards/al-bilinear.yaml")
+	task, id, err := NewVerifyTask(c, Settings{ToolVersion: "test"}, time.Minute)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var verified atomic.Int64
+	h := s.handler()
+	h.Now = func() time.Time { verified.Add(1); return time.Unix(1e9+verified.Load(), 0) }
+	var wg sync.WaitGroup
+	errs := make([]error, 2)
+	for i := range 2 {
+		wg.Go(func() { errs[i] = h.ProcessTask(context.Background(), task) })
+	}
+	wg.Wait()
+	if errs[0] != nil || errs[1] != nil {
+		t.Fatalf("concurrent runs: %v, %v", errs[0], errs[1])
+	}
+	first, err := s.rdb.Get(context.Background(), recordKey(id)).Bytes()
+	if err != nil {
+		t.Fatal(err)
+	}
+	before := verified.Load()
+	if err := h.ProcessTask(context.Background(), task); err != nil {
+		t.Fatal(err)
+	}
+	if verified.Load() != before {
+		t.Errorf("a third run verified again although the record exists")
+	}
+	again, _ := s.rdb.Get(context.Background(), recordKey(id)).Bytes()
+	if string(again) != string(first) {
+		t.Errorf("the record in Redis was replaced")
+	}
+	info, err := s.insp.GetQueueInfo(QueueMaterialize)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if info.Pending != 1 {
+		t.Errorf("%d materialize tasks pending, want 1", info.Pending)
+	}
+}
+
+// TestHandlerSkipRetry: deterministic failures are not retried.
+func TestHandlerSkipRetry(t *testing.T) {
+	s := newQueueStack(t, nil, false)
+	h := s.handler()
+	c := loadTestCard(t, "../testdata/cards/ss-chaboche.yaml")
+	task, _, err := NewVerifyTask(c, Settings{ToolVersion: "test"}, time.Minute)
+	if err != nil {
+		t.Fatal(err)
+	}
+	h.Budget = time.Nanosecond
+	tests := []struct {
+		name string
+		h    *Handler
+		task *asynq.Task
+	}{
+		{"payload not JSON", s.handler(), asynq.NewTask(TypeVerify, []byte("{"))},
+		{"card invalid", s.handler(), asynq.NewTask(TypeVerify, []byte(`{"card":{"format":"matgate.card/1"},"settings":{}}`))},
+		{"budget exceeded", h, task},
+	}
+	for _, tc := range tests {
+		err := tc.h.ProcessTask(context.Background(), tc.task)
+		if err == nil || !errorsIs(err, asynq.SkipRetry) {
+			t.Errorf("%s: %v, want an error wrapping SkipRetry", tc.name, err)
+		}
+	}
+	if err := h.ProcessTask(context.Background(), task); !errorsIs(err, ErrBudget) {
+		t.Errorf("budget: %v, want ErrBudget", err)
+	}
+}
+
+// TestRedisDownIsRetried: with Redis gone the handler returns an error that
+// asynq retries (no SkipRetry).
+func TestRedisDownIsRetried(t *testing.T) {
+	r := startRedis(t)
+	s := newQueueStack(t, r, false)
+	c := loadTestCard(t, "../testdata/cards/al-bilinear.yaml")
+	task, _, _ := NewVerifyTask(c, Settings{ToolVersion: "test"}, time.Minute)
+	r.stop()
+	ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
+	defer cancel()
+	err := s.handler().ProcessTask(ctx, task)
+	if err == nil || errorsIs(err, asynq.SkipRetry) {
+		t.Errorf("Redis down: %v, want a retryable error", err)
+	}
+}
+
+func TestTaskTimeoutExceedsBudget(t *testing.T) {
+	for _, b := range []time.Duration{time.Nanosecond, 300 * time.Millisecond, time.Second, DefaultBudget, 90*time.Second + 1} {
+		to := TaskTimeout(b)
+		if to <= b || to%time.Second != 0 {
+			t.Errorf("budget %v: asynq timeout %v, want whole seconds above the budget", b, to)
+		}
+	}
+	for n := range 20 {
+		if d := RetryDelay(n, nil, nil); d <= 0 || d > maxRetryDelay {
+			t.Errorf("retry %d: delay %v outside (0, %v]", n, d, maxRetryDelay)
+		}
+	}
+}
