@@ -48,6 +48,21 @@ func reverseYield(m *plastic.Material, set *plastic.Settings, hist []histPt) (si
 	return 0, false, nil
 }
 
+// cycleIncrement returns the increment bound and the least number of
+// increments per branch for cycle k (0-based) of N under strain control
+// with branches of strain span: h and the profile's count in the first
+// cycle and in the last two, two increments per branch between them. The
+// checks read the first cycle (reverse yield, first means) and the last two
+// (peaks, closure, loop area, last means); the cycles between only carry
+// the transients forward, and the exact algorithm is independent of the
+// increment size under monotone strain control (package plastic, Exact).
+func (v *verifier) cycleIncrement(k, N int, h, span float64) (float64, int) {
+	if v.set.Algorithm == plastic.Exact && k > 0 && k < N-2 {
+		return span, 2
+	}
+	return h, v.prof.incPerBranch
+}
+
 // cyclic is fully reversed strain cycling (strain ratio -1) at amplitude
 // a: loading from the virgin state to +a, then Cycles cycles +a -> -a -> +a.
 func (v *verifier) cyclic(a float64) caseFn {
@@ -56,7 +71,7 @@ func (v *verifier) cyclic(a float64) caseFn {
 		N := v.spec.Cycles
 		name := "cyclic-" + fmtG(a)
 		h := math.Min(v.hEps, 2*a/float64(v.prof.incPerBranch)) / float64(refine)
-		c := Case{Name: name, Kind: "fully-reversed", Loading: fmt.Sprintf("strain control, strain ratio -1: from the virgin state to %s, then %d cycles between %s and -%s, increments of at most %.4g (even per branch)", fmtG(a), N, fmtG(a), fmtG(a), h)}
+		c := Case{Name: name, Kind: "fully-reversed", Loading: fmt.Sprintf("strain control, strain ratio -1: from the virgin state to %s, then %d cycles between %s and -%s, increments of at most %.4g (even per branch) in the first and the last two cycles and two per branch between them (exact algorithm)", fmtG(a), N, fmtG(a), fmtG(a), h)}
 		d := newPath1D(ctx, m, v.set, v.prof.driverTol, (4*N+1)*int(a/h+2))
 		// The reference: branch solutions tip to tip.
 		tips, err := v.tipsOf(name, true, cycleTargets(a, -a, a, N))
@@ -68,12 +83,13 @@ func (v *verifier) cyclic(a float64) caseFn {
 		}
 		var first []histPt // states of the first reverse branch, for the reverse-yield bisection
 		for k := 0; k < N; k++ {
+			hk, minK := v.cycleIncrement(k, N, h, 2*a)
 			for _, target := range [2]float64{-a, a} {
 				d.keep = k == 0 && target < 0
 				if d.keep {
 					d.hist = append(d.hist[:0], histPt{d.st, false})
 				}
-				if err := d.strainTo(target, h, v.prof.incPerBranch); err != nil {
+				if err := d.strainTo(target, hk, minK); err != nil {
 					return c, CaseSetting{}, err
 				}
 				if d.keep {

@@ -89,7 +89,7 @@ func (v *verifier) relaxation(ctx context.Context, refine int) (Case, CaseSettin
 	N := r.Cycles
 	eMax, eMin := r.MeanStrain+r.StrainAmplitude, r.MeanStrain-r.StrainAmplitude
 	h := math.Min(v.hEps, 2*r.StrainAmplitude/float64(v.prof.incPerBranch)) / float64(refine)
-	c := Case{Name: "mean-strain-relaxation", Kind: "mean-stress-relaxation", Loading: fmt.Sprintf("strain control from the virgin state to %s, then %d cycles between %s and %s (mean strain %s), increments of at most %.4g", fmtG(eMax), N, fmtG(eMax), fmtG(eMin), fmtG(r.MeanStrain), h)}
+	c := Case{Name: "mean-strain-relaxation", Kind: "mean-stress-relaxation", Loading: fmt.Sprintf("strain control from the virgin state to %s, then %d cycles between %s and %s (mean strain %s), increments of at most %.4g in the first and the last two cycles and two per branch between them (exact algorithm)", fmtG(eMax), N, fmtG(eMax), fmtG(eMin), fmtG(r.MeanStrain), h)}
 	d := newPath1D(ctx, m, v.set, v.prof.driverTol, (2*N+1)*int(2*r.StrainAmplitude/h+2))
 	tips, err := v.tipsOf(c.Name, true, cycleTargets(eMax, eMin, eMax, N))
 	if err != nil {
@@ -99,8 +99,9 @@ func (v *verifier) relaxation(ctx context.Context, refine int) (Case, CaseSettin
 		return c, CaseSetting{}, err
 	}
 	for k := 0; k < N; k++ {
+		hk, minK := v.cycleIncrement(k, N, h, eMax-eMin)
 		for _, target := range [2]float64{eMin, eMax} {
-			if err := d.strainTo(target, h, v.prof.incPerBranch); err != nil {
+			if err := d.strainTo(target, hk, minK); err != nil {
 				return c, CaseSetting{}, err
 			}
 		}

@@ -105,7 +105,7 @@ func (m *Material) Dissipation1D(prev, next *State1D) float64 {
 //     ch. 1 (1D return mapping and its algorithmic tangent).
 func (m *Material) Step1D(dst, src *State1D, dEps float64, set *Settings) (StepInfo, error) {
 	m.mustBeValid()
-	s := *src
+	s := src // read from src; written through dst at the end (dst may be src)
 	sigTr := s.Sigma + m.E*dEps
 	xi := sigTr - s.BackStress(m.N)
 	// R and its derivatives at p; eP = exp(-B p) is kept for the Voce
@@ -125,9 +125,11 @@ func (m *Material) Step1D(dst, src *State1D, dEps float64, set *Settings) (StepI
 		if math.IsNaN(f) {
 			return StepInfo{}, ErrInvalidInput
 		}
-		s.Eps += dEps
-		s.Sigma = sigTr
-		*dst = s
+		if dst != src {
+			*dst = *src
+		}
+		dst.Eps += dEps
+		dst.Sigma = sigTr
 		return StepInfo{Substeps: 1, Tangent: m.E}, nil
 	}
 	n := 1.0
@@ -258,24 +260,27 @@ func (m *Material) Step1D(dst, src *State1D, dEps float64, set *Settings) (StepI
 		return StepInfo{Iterations: it, Substeps: 1}, ErrNotConverged
 	}
 
-	// Write the state at dp (eAF holds the factors at this dp).
+	// Write the state at dp (e holds the factors at this dp).
+	p0 := s.P
+	if dst != src {
+		*dst = *src
+	}
 	for j := 0; j < m.nLin; j++ {
 		i := m.lin[j]
-		s.Alpha[i] += n * m.Terms[i].C * dp
+		dst.Alpha[i] += n * m.Terms[i].C * dp
 	}
 	for j := 0; j < nAF; j++ {
 		i := m.af[j]
 		if exact {
-			s.Alpha[i] = n * (m.afA[j] + b[j]*e[j])
+			dst.Alpha[i] = n * (m.afA[j] + b[j]*e[j])
 		} else {
-			s.Alpha[i] = (s.Alpha[i] + n*m.afC[j]*dp) * e[j]
+			dst.Alpha[i] = (dst.Alpha[i] + n*m.afC[j]*dp) * e[j]
 		}
 	}
-	s.Eps += dEps
-	s.EpsP += n * dp
-	s.P += dp
-	s.Sigma = sigTr - n*m.E*dp
-	*dst = s
+	dst.Eps += dEps
+	dst.EpsP += n * dp
+	dst.P = p0 + dp
+	dst.Sigma = sigTr - n*m.E*dp
 	h := -g1 - m.E
 	return StepInfo{Plastic: true, DP: dp, Iterations: it, Substeps: 1, Tangent: m.E * h / (m.E + h)}, nil
 }
