@@ -53,15 +53,18 @@ func Defaults(c *schema.Card) schema.Verification {
 }
 
 // defaultCycles returns the number of fully reversed cycles after which the
-// slowest transient of the card has decayed to 1e-4 of its initial size at
-// the strain amplitude epsA, kept within [10, 200].
+// slowest transient of the card has decayed to 1e-3 of its initial size at
+// the strain amplitude epsA, kept within [10, 200]. It is the rule that
+// checks.Spec applies to a hand-built spec without cycles; the two are kept
+// in step so that a card verifies the same whether its defaults come from
+// here or from there (convert may not import checks).
 //
 // An Armstrong-Frederick back stress forgets its value at the start of a
 // branch by exp(-gamma dEpsP) over the branch (the branch solution of
 // d alpha = C d eps_p - gamma alpha |d eps_p|), so by rho = exp(-2 gamma
 // dEpsP) per cycle; Voce's R(p) approaches Q by exp(-b dp), rho = exp(-2 b
 // dEpsP). dEpsP, the stabilized plastic strain range, is estimated as
-// 2 (epsA - eps_y); N = ln(1e4) / (2 rate dEpsP) for the smallest rate.
+// 2 (epsA - eps_y); N = ln(1e3) / (2 rate dEpsP) for the smallest rate.
 // Linear terms stabilize in one cycle; linear isotropic hardening never
 // does (10 cycles). Derived here.
 func defaultCycles(c *schema.Card, epsA float64) int {
@@ -78,7 +81,7 @@ func defaultCycles(c *schema.Card, epsA float64) int {
 	if dEpsP <= 0 || math.IsInf(slow, 1) {
 		return 10
 	}
-	n := math.Ceil(math.Log(1e4) / (2 * slow * dEpsP))
+	n := math.Ceil(math.Log(1e3) / (2 * slow * dEpsP))
 	return int(math.Max(10, math.Min(200, n)))
 }
 
