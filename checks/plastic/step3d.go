@@ -489,7 +489,10 @@ func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float
 	}
 	const s23 = 0.81649658092772603273 // sqrt(2/3)
 	const s6 = 2.4494897427831780982   // sqrt(6)
-	out := *src
+	if dst != src {
+		*dst = *src
+	}
+	out := dst
 	for j := 0; j < m.nLin; j++ {
 		i := m.lin[j]
 		c := s23 * m.Terms[i].C * dp
@@ -524,7 +527,6 @@ func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float
 		out.EpsP[k+3] += 2 * s32 * dp * nh[k+3]
 	}
 	out.P += dp
-	*dst = out
 
 	if D != nil {
 		theta := sd / nxi
