@@ -49,13 +49,14 @@ func prepareTestCard(t testing.TB, name string, b []byte) *schema.Card {
 // queueStack is a worker and a materializer on one private Redis, in this
 // process.
 type queueStack struct {
-	redis  *testRedis
-	rdb    *redis.Client
-	client *asynq.Client
-	insp   *asynq.Inspector
-	store  *DirStore
-	dir    string
-	runs   atomic.Int64 // verifications the handler ran (not skipped)
+	redis   *testRedis
+	rdb     *redis.Client
+	client  *asynq.Client
+	insp    *asynq.Inspector
+	store   *DirStore
+	dir     string
+	runs    atomic.Int64 // verification tasks the worker ran
+	observe func(seconds float64)
 }
 
 func newQueueStack(t *testing.T, r *testRedis, workers bool) *queueStack {
@@ -103,7 +104,7 @@ func (s *queueStack) startWorker(t *testing.T) {
 }
 
 func (s *queueStack) startMaterializer(t *testing.T) *asynq.Server {
-	srv, mux := NewMaterializeServer(s.rdb, &Materializer{Redis: s.rdb, Store: s.store}, quiet)
+	srv, mux := NewMaterializeServer(s.rdb, &Materializer{Redis: s.rdb, Store: s.store, Observe: s.observe}, quiet)
 	if err := srv.Start(mux); err != nil {
 		t.Fatal(err)
 	}

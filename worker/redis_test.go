@@ -44,7 +44,7 @@ func startRedis(t *testing.T, extra ...string) *testRedis {
 	l.Close()
 	r := &testRedis{Addr: "127.0.0.1:" + strconv.Itoa(port), Dir: t.TempDir(), t: t}
 	r.args = append([]string{"--port", strconv.Itoa(port), "--bind", "127.0.0.1", "--save", "", "--appendonly", "no",
-		"--dir", r.Dir, "--maxmemory-policy", "noeviction", "--loglevel", "warning"}, extra...)
+		"--dir", r.Dir, "--maxmemory-policy", "noeviction", "--loglevel", "warning", "--logfile", "redis.log"}, extra...)
 	r.start(bin)
 	t.Cleanup(r.stop)
 	return r
@@ -53,7 +53,6 @@ func startRedis(t *testing.T, extra ...string) *testRedis {
 func (r *testRedis) start(bin string) {
 	r.t.Helper()
 	r.cmd = exec.Command(bin, r.args...)
-	r.cmd.Stdout, r.cmd.Stderr = os.Stderr, os.Stderr
 	if err := r.cmd.Start(); err != nil {
 		r.t.Fatalf("start redis-server: %v", err)
 	}
