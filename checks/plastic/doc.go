@@ -50,8 +50,8 @@
 // NewMaterial. Two algorithms: Exact (default; in 1D the exact solution for
 // a piecewise-linear strain path, independent of the increment size) and
 // BackwardEuler (first order). In 3D, Exact is exact for proportional
-// (coaxial) increments and error-controlled (Richardson extrapolation with
-// substepping, Settings.SubstepTol) for the others. Step1D and Step3D
+// (coaxial) increments and error-controlled (Richardson-Romberg
+// extrapolation with substepping, Settings.SubstepTol) for the others. Step1D and Step3D
 // document the equations. A Material and the step functions hold no
 // mutable shared state, so goroutines may share one Material.
 //

@@ -146,9 +146,12 @@ func (m *Material) ElasticStiffness() [6][6]float64 {
 // other increments the normal turns and the single return is first order;
 // the increment is then integrated with one, two and four returns, the two
 // Richardson extrapolants 2 y(h/2) - y(h) and 2 y(h/4) - y(h/2) are compared
-// and the increment is halved until they agree within Settings.SubstepTol,
-// and the accepted extrapolant is returned to the yield surface at fixed
-// total strain (extrapolation leaves it by a second-order amount). D is then
+// and the increment is halved until they agree within Settings.SubstepTol;
+// their third-order combination (4 R2 - R1)/3 is accepted and returned to
+// the yield surface at fixed total strain (extrapolation leaves it
+// slightly). References for the extrapolation: Richardson 1911, Romberg
+// 1955 (any numerical-analysis text, e.g. Hairer, Norsett and Wanner,
+// Solving Ordinary Differential Equations I, 1993, sec. II.9). D is then
 // the tangent of the first single return over the last accepted substep: an
 // approximation of the tangent of the composite map, good enough for the
 // mixed-control Newton (which converges on the stress residual, not on D).
@@ -179,10 +182,11 @@ func (m *Material) Step3D(dst, src *State3D, dEps [6]float64, D *[6][6]float64, 
 }
 
 // substep integrates dEps with the Exact return. It compares one step, two
-// half steps and four quarter steps, forms the two Richardson extrapolants
-// R1 = 2 y(h/2) - y(h) and R2 = 2 y(h/4) - y(h/2) (the first-order error
-// term cancels), and accepts R2, returned to the yield surface at fixed
-// total strain, when |R2 - R1| <= tol; otherwise it halves the increment.
+// half steps and four quarter steps: with local errors c2 h^2 + c3 h^3 + ...
+// the extrapolants R1 = 2 y(h/2) - y(h) and R2 = 2 y(h/4) - y(h/2) cancel
+// the h^2 term and (4 R2 - R1)/3 the h^3 term (a Romberg table). That value,
+// returned to the yield surface at fixed total strain, is accepted when
+// |R2 - R1| <= tol; otherwise the increment is halved.
 func (m *Material) substep(dst, src *State3D, dEps *[6]float64, D *[6][6]float64, maxIter int, tol float64, depth int, info *StepInfo) error {
 	var y1, y2, y4 State3D
 	fi, err := m.radialReturn(&y1, src, dEps, D, Exact, maxIter)
@@ -202,8 +206,9 @@ func (m *Material) substep(dst, src *State3D, dEps *[6]float64, D *[6][6]float64
 		r1 := m.combine(&y2, &y1, 2, -1)
 		r2 := m.combine(&y4, &y2, 2, -1)
 		if m.stateDiff(&r1, &r2) <= tol {
+			r3 := m.combine(&r2, &r1, 4.0/3, -1.0/3)
 			var zero [6]float64
-			pi, err := m.returnMap(dst, &r2, &zero, nil, Exact, maxIter, true)
+			pi, err := m.returnMap(dst, &r3, &zero, nil, Exact, maxIter, true)
 			info.Iterations += pi.Iterations
 			if err != nil {
 				*dst = y4

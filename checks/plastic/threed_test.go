@@ -167,28 +167,51 @@ func TestBackwardEuler3DFirstOrder(t *testing.T) {
 }
 
 // TestTensionTorsionAccuracy: a non-proportional tension-torsion path (a
-// box in the eps_11 - gamma_12 plane, thin-walled tube: other stresses
-// zero) keeps consistency and dissipation after every plastic step and
-// converges: the Exact algorithm at its defaults and the default-size
-// increment 1e-4 agrees with a reference run (SubstepTol 1e-9, increments
-// four times smaller) to 1e-6 sigmaY, the accuracy target for 3D
-// cases. Backward Euler at the same increment is reported for contrast.
+// box in the eps_11 - gamma_12 plane) keeps consistency and dissipation
+// after every plastic step and converges. The Exact algorithm at its
+// defaults and the default-size increment 1e-4 must agree with a reference
+// run (SubstepTol 1e-9, increments four times smaller) to 1e-6 sigmaY, the
+// issue's accuracy target for 3D cases, both
+//   - under full strain control (lateral strains -eps_11/2 prescribed): the
+//     difference is the integration error alone, and
+//   - under mixed control (thin-walled tube, other stresses zero): the
+//     difference adds the first-order discretization of the free-strain
+//     path (see Run3D), measured separately by running the reference
+//     tolerance at the default increment.
+//
+// Backward Euler at the same increment is reported for contrast.
 func TestTensionTorsionAccuracy(t *testing.T) {
 	m := chaboche3Voce(t)
 	pts := [][2]float64{{0.004, 0}, {0.004, 0.01}, {-0.004, 0.01}, {-0.004, -0.01}, {0.004, -0.01}, {0.004, 0}}
-	coarse, hist, res := run3D(t, &m, State3D{}, TensionTorsionPath(pts, 1e-4), nil)
-	checkInvariants3D(t, &m, State3D{}, hist)
-	ref, _, _ := run3D(t, &m, State3D{}, TensionTorsionPath(pts, 1e-4/4), &Settings{SubstepTol: 1e-9})
-	d := m.stateDiff(&coarse, &ref) / m.SigmaY
-	t.Logf("tension-torsion: default run vs reference %.3g sigmaY; default run %+v", d, res)
-	if d > 1e-6 {
-		t.Errorf("default run and reference differ by %.3g sigmaY > 1e-6", d)
+	strainPath := func(inc float64) Path3D {
+		p := Path3D{StrainControlled: [6]bool{true, true, true, true, true, true}, MaxStrainIncrement: inc}
+		for _, q := range pts {
+			p.Targets = append(p.Targets, [6]float64{q[0], -0.5 * q[0], -0.5 * q[0], 0, 0, q[1]})
+		}
+		return p
 	}
-	be, _, _ := run3D(t, &m, State3D{}, TensionTorsionPath(pts, 1e-4), &Settings{Algorithm: BackwardEuler})
-	t.Logf("backward Euler at 1e-4 vs reference: %.3g sigmaY", m.stateDiff(&be, &ref)/m.SigmaY)
-	if !testing.Short() {
-		same, _, _ := run3D(t, &m, State3D{}, TensionTorsionPath(pts, 1e-4), &Settings{SubstepTol: 1e-9})
-		t.Logf("reference tolerance at the default increment vs reference: %.3g sigmaY (mixed-control path discretization)", m.stateDiff(&same, &ref)/m.SigmaY)
+	refSet := &Settings{SubstepTol: 1e-9}
+	for _, c := range []struct {
+		name string
+		path func(inc float64) Path3D
+	}{
+		{"strain-control", strainPath},
+		{"mixed-control", func(inc float64) Path3D { return TensionTorsionPath(pts, inc) }},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			got, hist, res := run3D(t, &m, State3D{}, c.path(1e-4), nil)
+			checkInvariants3D(t, &m, State3D{}, hist)
+			ref, _, _ := run3D(t, &m, State3D{}, c.path(1e-4/4), refSet)
+			d := m.stateDiff(&got, &ref) / m.SigmaY
+			t.Logf("default run vs reference %.3g sigmaY; %.1f returns a step; %+v", d, float64(res.Substeps)/float64(res.Increments+res.NewtonIterations), res)
+			if d > 1e-6 {
+				t.Errorf("default run and reference differ by %.3g sigmaY > 1e-6", d)
+			}
+			same, _, _ := run3D(t, &m, State3D{}, c.path(1e-4), refSet)
+			t.Logf("reference tolerance at the default increment vs reference: %.3g sigmaY (path discretization)", m.stateDiff(&same, &ref)/m.SigmaY)
+			be, _, _ := run3D(t, &m, State3D{}, c.path(1e-4), &Settings{Algorithm: BackwardEuler})
+			t.Logf("backward Euler at 1e-4 vs reference: %.3g sigmaY", m.stateDiff(&be, &ref)/m.SigmaY)
+		})
 	}
 }
 
