@@ -91,7 +91,11 @@ show fitness for design.`,
 					return invalid("%v", err)
 				}
 				sum := sha256.Sum256(b)
-				sources = append(sources, fmt.Sprintf("%s (sha256:%s)", filepath.ToSlash(a), hex.EncodeToString(sum[:])))
+				shown := filepath.Base(a) // the path relative to the card, or the bare name: no machine paths in the card
+				if r, err := filepath.Rel(cardDir, a); err == nil && !strings.HasPrefix(r, "..") && !filepath.IsAbs(r) {
+					shown = r
+				}
+				sources = append(sources, fmt.Sprintf("%s (sha256:%s)", filepath.ToSlash(shown), hex.EncodeToString(sum[:])))
 				pts, err := convert.ReadCurve(a, b)
 				if err != nil {
 					return invalid("%v", err)
