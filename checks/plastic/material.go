@@ -103,6 +103,12 @@ func (e *MaterialError) Error() string {
 // sigmaY + Q > 0 and E + Q B > 0 for Voce (the last keeps the consistency
 // condition solvable for a softening law, since the plastic modulus is never
 // below Q B).
+//
+// Limitation: the 3D state stores stresses, so for nu very close to 0.5
+// (above about 0.49) the bulk modulus E/(3(1 - 2 nu)) makes the pressure of
+// any volume change so large that the stress deviator is lost to round-off
+// (found by FuzzStep). Nearly incompressible cards need a mixed
+// formulation, which this package does not have.
 func NewMaterial(E, nu, sigmaY float64, terms []Term, iso Isotropic) (Material, error) {
 	var m Material
 	bad := func(field string, v float64, why string) (Material, error) {
