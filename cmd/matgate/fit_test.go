@@ -8,6 +8,7 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"sort"
 	"strconv"
 	"strings"
 	"testing"
@@ -119,6 +120,7 @@ func copyDemo(t *testing.T) (dir string, files []string) {
 		}
 		files = append(files, p)
 	}
+	sort.Strings(files) // the order of the command line, as a user would type it
 	return dir, files
 }
 

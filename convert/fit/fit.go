@@ -225,14 +225,27 @@ func Fit(ctx context.Context, data []Data, opts Options) (*Result, error) {
 	E := opts.E
 	if E == 0 {
 		var n int
-		var err error
-		E, n, err = InitialSlope(data[0])
-		if err != nil {
-			return nil, err
+		// Pool the initial slopes of every file: one least-squares slope
+		// through the origin over all their elastic points.
+		var sxy, sxx float64
+		var firstErr error
+		for _, d := range data {
+			a, b, k, err := initialSlopeSums(d)
+			if err != nil {
+				if firstErr == nil {
+					firstErr = err
+				}
+				continue
+			}
+			sxy, sxx, n = sxy+a, sxx+b, n+k
 		}
+		if n < 2 {
+			return nil, firstErr
+		}
+		E = sxy / sxx
 		res.EEstimated, res.EPoints = true, n
 		if n < 3 {
-			res.Warnings = append(res.Warnings, fmt.Sprintf("Young's modulus %.4g Pa from only %d points of the initial slope of %s: give --youngs-modulus", E, n, data[0].Name))
+			res.Warnings = append(res.Warnings, fmt.Sprintf("Young's modulus %.4g Pa from only %d points of the initial slopes: give --youngs-modulus", E, n))
 		}
 	} else if !(E > 0) || math.IsInf(E, 0) {
 		return nil, fmt.Errorf("fit: Young's modulus %g: must be positive and finite", E)
@@ -345,7 +358,17 @@ func checkHistory(d Data) error {
 // sensitivity of a tension test; common practice, no source). n is the
 // number of points used; at least 2 are needed.
 func InitialSlope(d Data) (E float64, n int, err error) {
-	var sxy, sxx, sres float64
+	sxy, sxx, n, err := initialSlopeSums(d)
+	if err != nil {
+		return 0, n, err
+	}
+	return sxy / sxx, n, nil
+}
+
+// initialSlopeSums returns the sums sum eps sigma and sum eps^2 over the
+// points of d's initial slope (see InitialSlope) and their number.
+func initialSlopeSums(d Data) (sxy, sxx float64, n int, err error) {
+	var sres float64
 	for i, p := range d.Points {
 		if i > 0 && p[0] < d.Points[i-1][0] {
 			break
@@ -374,9 +397,9 @@ func InitialSlope(d Data) (E float64, n int, err error) {
 		}
 	}
 	if n < 2 || !(sxy > 0) {
-		return 0, n, fmt.Errorf("%w: %s: cannot estimate Young's modulus from the initial slope (%d rising point(s) on a line); give it", ErrBadData, d.Name, n)
+		return 0, 0, n, fmt.Errorf("%w: %s: cannot estimate Young's modulus from the initial slope (%d rising point(s) on a line); give it", ErrBadData, d.Name, n)
 	}
-	return sxy / sxx, n, nil
+	return sxy, sxx, n, nil
 }
 
 // startValues returns x0 from closed forms. With sigma_y0 the stress at the
