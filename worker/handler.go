@@ -28,6 +28,10 @@ redis.call('SET', KEYS[2], ARGV[2])
 return 1
 `)
 
+// budgetMargin is kept between the end of the verification budget and
+// asynq's deadline for the Redis write and the enqueue that follow.
+const budgetMargin = 5 * time.Second
+
 // DefaultBudget is the verification budget when none is configured: the
 // demo cards take well under a second on one core.
 const DefaultBudget = 2 * time.Minute
@@ -82,6 +86,13 @@ func (h *Handler) ProcessTask(ctx context.Context, t *asynq.Task) error {
 		budget := h.Budget
 		if budget <= 0 {
 			budget = DefaultBudget
+		}
+		// The task's asynq Timeout was set by serve from its own budget;
+		// end first, so that the SkipRetry below is honoured.
+		if dl, ok := ctx.Deadline(); ok {
+			if rem := time.Until(dl) - budgetMargin; rem < budget {
+				budget = max(rem, time.Millisecond)
+			}
 		}
 		now := time.Now
 		if h.Now != nil {

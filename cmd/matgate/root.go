@@ -83,6 +83,7 @@ applicable codes and licensed engineers.`,
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return &usageError{err} })
 	root.AddCommand(newVersionCmd(e), newCheckCmd(e), newNormalizeCmd(e), newSchemaCmd(e),
 		newVerifyCmd(e), newSimulateCmd(e), newRecordCmd(e))
+	root.AddCommand(newServeCmd(e), newWorkerCmd(e), newSubmitCmd(e), newLedgerCmd(e), newTokenCmd(e))
 	root.AddCommand(newFitCmd(e))
 	for _, c := range root.Commands() {
 		wrapArgs(c)

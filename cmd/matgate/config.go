@@ -1,0 +1,187 @@
+package main
+
+import (
+	"encoding/json"
+	"errors"
+	"fmt"
+	"net"
+	"reflect"
+	"slices"
+	"strings"
+	"time"
+
+	"github.com/go-viper/mapstructure/v2"
+	"github.com/redis/go-redis/v9"
+	"github.com/spf13/cobra"
+	"github.com/spf13/viper"
+
+	"matgate/schema"
+	"matgate/worker"
+)
+
+// Config is the configuration of serve and worker. viper fills it from,
+// lowest first: the defaults below, the --config file, MATGATE_*
+// environment variables ("." becomes "_": MATGATE_REDIS_URL), and flags.
+// Nothing but loadConfig reads viper. deploy/matgate.example.yaml documents
+// every key.
+type Config struct {
+	Redis struct {
+		URL string `mapstructure:"url"` // redis://[user:password@]host:port/db
+	} `mapstructure:"redis"`
+	Server struct {
+		Listen          string        `mapstructure:"listen"`           // host:port of the HTTP API
+		MaxBody         int64         `mapstructure:"max_body"`         // largest card accepted, bytes
+		ReadTimeout     time.Duration `mapstructure:"read_timeout"`     // a whole request, body included
+		WriteTimeout    time.Duration `mapstructure:"write_timeout"`    // a whole response
+		ShutdownTimeout time.Duration `mapstructure:"shutdown_timeout"` // grace for requests and tasks on SIGTERM
+	} `mapstructure:"server"`
+	Store struct {
+		Dir string `mapstructure:"dir"` // the records directory (serve only)
+	} `mapstructure:"store"`
+	Auth struct {
+		Tokens []worker.Token `mapstructure:"tokens"`
+	} `mapstructure:"auth"`
+	Worker struct {
+		Concurrency int `mapstructure:"concurrency"` // 0: the number of cores
+	} `mapstructure:"worker"`
+	Verify struct {
+		Profile string        `mapstructure:"profile"` // for cards that name none
+		Budget  time.Duration `mapstructure:"budget"`  // one verification's time limit
+	} `mapstructure:"verify"`
+}
+
+// configDefaults holds every key's default; a key without one would be
+// invisible to environment variables (viper reads the environment only
+// for keys it knows).
+var configDefaults = map[string]any{
+	"redis.url":               "redis://127.0.0.1:6379/0",
+	"server.listen":           "127.0.0.1:8080",
+	"server.max_body":         int64(schema.DefaultMaxBytes),
+	"server.read_timeout":     "30s",
+	"server.write_timeout":    "60s",
+	"server.shutdown_timeout": "30s",
+	"store.dir":               "matgate-records",
+	"auth.tokens":             []any{},
+	"worker.concurrency":      0,
+	"verify.profile":          schema.ProfileStandard,
+	"verify.budget":           worker.DefaultBudget.String(),
+}
+
+// addConfigFlag adds --config to a command.
+func addConfigFlag(c *cobra.Command) {
+	c.Flags().String("config", "", "configuration file (YAML); see deploy/matgate.example.yaml")
+}
+
+// loadConfig builds the Config of a command: flags maps configuration keys
+// to the command's flag names, and only flags given on the command line
+// override (a flag's own default never beats the file or the
+// environment). Every problem comes back at once, as an invalid-input
+// error.
+func loadConfig(cmd *cobra.Command, flags map[string]string) (*Config, error) {
+	v := viper.New()
+	for k, d := range configDefaults {
+		v.SetDefault(k, d)
+	}
+	v.SetEnvPrefix("MATGATE")
+	v.SetEnvKeyReplacer(strings.NewReplacer(".", "_"))
+	v.AutomaticEnv()
+	if f := cmd.Flags().Lookup("config"); f != nil && f.Value.String() != "" {
+		v.SetConfigFile(f.Value.String())
+		v.SetConfigType("yaml")
+		if err := v.ReadInConfig(); err != nil {
+			return nil, invalid("--config %s: %v", f.Value.String(), err)
+		}
+	}
+	for key, name := range flags {
+		if f := cmd.Flags().Lookup(name); f != nil && f.Changed {
+			if err := v.BindPFlag(key, f); err != nil {
+				return nil, err
+			}
+		}
+	}
+	var c Config
+	hook := mapstructure.ComposeDecodeHookFunc(
+		mapstructure.StringToTimeDurationHookFunc(),
+		jsonStringToSlice, // MATGATE_AUTH_TOKENS='[{"name":...}]'
+		mapstructure.StringToSliceHookFunc(","),
+	)
+	if err := v.UnmarshalExact(&c, viper.DecodeHook(hook)); err != nil {
+		return nil, invalid("configuration: %v (every key is listed in deploy/matgate.example.yaml)", err)
+	}
+	if err := c.Validate(); err != nil {
+		return nil, invalid("configuration:\n%v", err)
+	}
+	return &c, nil
+}
+
+// jsonStringToSlice decodes a JSON array given as a string (an environment
+// variable) into a slice.
+func jsonStringToSlice(from, to reflect.Type, data any) (any, error) {
+	s, ok := data.(string)
+	if !ok || from.Kind() != reflect.String || to.Kind() != reflect.Slice || !strings.HasPrefix(strings.TrimSpace(s), "[") {
+		return data, nil
+	}
+	var out []any
+	if err := json.Unmarshal([]byte(s), &out); err != nil {
+		return nil, fmt.Errorf("not a JSON array: %w", err)
+	}
+	return out, nil
+}
+
+// Validate returns every field error, one a line, each naming its key.
+func (c *Config) Validate() error {
+	var errs []error
+	bad := func(key, format string, args ...any) {
+		errs = append(errs, fmt.Errorf("%s: %s", key, fmt.Sprintf(format, args...)))
+	}
+	if _, err := redis.ParseURL(c.Redis.URL); err != nil {
+		bad("redis.url", "%q: %v", c.Redis.URL, err)
+	}
+	if _, _, err := net.SplitHostPort(c.Server.Listen); err != nil {
+		bad("server.listen", "%q: want host:port: %v", c.Server.Listen, err)
+	}
+	if c.Server.MaxBody <= 0 || c.Server.MaxBody > 64<<20 {
+		bad("server.max_body", "%d: want 1 to %d bytes", c.Server.MaxBody, 64<<20)
+	}
+	for _, d := range []struct {
+		key string
+		v   time.Duration
+	}{{"server.read_timeout", c.Server.ReadTimeout}, {"server.write_timeout", c.Server.WriteTimeout}, {"server.shutdown_timeout", c.Server.ShutdownTimeout}} {
+		if d.v <= 0 {
+			bad(d.key, "%v: want a positive duration such as 30s", d.v)
+		}
+	}
+	if c.Store.Dir == "" {
+		bad("store.dir", "empty: name the records directory")
+	}
+	names := map[string]bool{}
+	for i, t := range c.Auth.Tokens {
+		errs = append(errs, t.Validate(i)...)
+		if names[t.Name] && t.Name != "" {
+			bad(fmt.Sprintf("auth.tokens[%d].name", i), "%q is used twice", t.Name)
+		}
+		names[t.Name] = true
+	}
+	if c.Worker.Concurrency < 0 || c.Worker.Concurrency > 1024 {
+		bad("worker.concurrency", "%d: want 0 (the number of cores) to 1024", c.Worker.Concurrency)
+	}
+	if p := []string{schema.ProfileStandard, schema.ProfileStrict}; !slices.Contains(p, c.Verify.Profile) {
+		bad("verify.profile", "%q: want one of %s", c.Verify.Profile, strings.Join(p, ", "))
+	}
+	if c.Verify.Budget <= 0 || c.Verify.Budget > 24*time.Hour {
+		bad("verify.budget", "%v: want a positive duration up to 24h", c.Verify.Budget)
+	}
+	return errors.Join(errs...)
+}
+
+// redisClient returns the one go-redis client of a process, parsed with
+// redis.ParseURL (asynq's own parser drops an ACL user name), with context
+// deadlines bounding socket I/O.
+func (c *Config) redisClient() (*redis.Client, error) {
+	o, err := redis.ParseURL(c.Redis.URL)
+	if err != nil {
+		return nil, invalid("redis.url: %v", err)
+	}
+	o.ContextTimeoutEnabled = true
+	return redis.NewClient(o), nil
+}

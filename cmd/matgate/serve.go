@@ -1,0 +1,114 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"log/slog"
+	"net"
+	"net/http"
+
+	"github.com/hibiken/asynq"
+	"github.com/spf13/cobra"
+
+	"matgate/worker"
+)
+
+func newServeCmd(e *env) *cobra.Command {
+	c := &cobra.Command{
+		Use:   "serve",
+		Short: "Run the HTTP API and the records directory's writer",
+		Long: `serve answers the HTTP API (POST /v1/cards, GET /v1/jobs/{id},
+/v1/records..., /healthz, /readyz, /metrics), enqueues verifications on
+Redis for matgate worker processes, and is the one writer of the records
+directory: it turns each finished record into immutable files and a ledger
+line. Stop it with SIGTERM or Ctrl-C: requests in flight finish, the
+materialize task in flight goes back to the queue.
+
+Configuration: defaults < --config file < MATGATE_* environment < flags;
+see deploy/matgate.example.yaml.`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error {
+			cfg, err := loadConfig(cmd, map[string]string{"server.listen": "listen", "store.dir": "store", "redis.url": "redis"})
+			if err != nil {
+				return err
+			}
+			return serve(cmd.Context(), e, cfg, nil)
+		},
+	}
+	addConfigFlag(c)
+	c.Flags().String("listen", "", "host:port of the HTTP API (server.listen; default 127.0.0.1:8080)")
+	c.Flags().String("store", "", "records directory (store.dir; default matgate-records)")
+	c.Flags().String("redis", "", "Redis URL (redis.url; default redis://127.0.0.1:6379/0)")
+	return c
+}
+
+// serve runs until ctx ends; ready, when set, is told the listening
+// address (tests use port 0).
+func serve(ctx context.Context, e *env, cfg *Config, ready func(addr string)) error {
+	log := slog.New(slog.NewTextHandler(e.stderr, nil))
+	rdb, err := cfg.redisClient()
+	if err != nil {
+		return err
+	}
+	defer rdb.Close()
+	store, err := worker.OpenDirStore(cfg.Store.Dir)
+	if err != nil {
+		return &exitError{code: exitInternal, err: err}
+	}
+	defer store.Close()
+	client := asynq.NewClientFromRedisClient(rdb)
+	defer client.Close()
+	insp := asynq.NewInspectorFromRedisClient(rdb)
+	defer insp.Close()
+	metrics := worker.NewMetrics(insp)
+	api, err := worker.NewAPI(worker.APIConfig{
+		Redis: rdb, Queue: client, Inspector: insp, Store: store, Metrics: metrics,
+		Tokens: cfg.Auth.Tokens, Settings: worker.Settings{ToolVersion: version},
+		Budget: cfg.Verify.Budget, MaxBody: cfg.Server.MaxBody, DefaultProfile: cfg.Verify.Profile, Log: log,
+	})
+	if err != nil {
+		return invalid("configuration: %v", err)
+	}
+	msrv, mux := worker.NewMaterializeServer(rdb, &worker.Materializer{Redis: rdb, Store: store, Observe: metrics.Duration.Observe},
+		worker.ServerOptions{ShutdownTimeout: cfg.Server.ShutdownTimeout, Logger: asynqLogger{log}, LogLevel: asynq.WarnLevel})
+	if err := msrv.Start(mux); err != nil {
+		return &exitError{code: exitInternal, err: fmt.Errorf("materialize queue: %w", err)}
+	}
+	defer msrv.Shutdown()
+	hs := worker.NewHTTPServer(cfg.Server.Listen, api, worker.HTTPTimeouts{Read: cfg.Server.ReadTimeout, Write: cfg.Server.WriteTimeout})
+	ln, err := net.Listen("tcp", cfg.Server.Listen)
+	if err != nil {
+		return &exitError{code: exitInternal, err: err}
+	}
+	if len(cfg.Auth.Tokens) == 0 {
+		log.Warn("no tokens configured (auth.tokens): every API request will be refused; create one with matgate token new")
+	}
+	log.Info("serving", "addr", "http://"+ln.Addr().String(), "store", cfg.Store.Dir, "version", version)
+	if ready != nil {
+		ready(ln.Addr().String())
+	}
+	served := make(chan error, 1)
+	go func() { served <- hs.Serve(ln) }()
+	select {
+	case err := <-served:
+		return &exitError{code: exitInternal, err: err}
+	case <-ctx.Done():
+	}
+	log.Info("shutting down")
+	sctx, cancel := context.WithTimeout(context.Background(), cfg.Server.ShutdownTimeout)
+	defer cancel()
+	if err := hs.Shutdown(sctx); err != nil && !errors.Is(err, http.ErrServerClosed) {
+		return &exitError{code: exitInternal, err: fmt.Errorf("shutdown: %w", err)}
+	}
+	return nil
+}
+
+// asynqLogger routes asynq's log lines through slog.
+type asynqLogger struct{ l *slog.Logger }
+
+func (a asynqLogger) Debug(args ...any) { a.l.Debug(fmt.Sprint(args...)) }
+func (a asynqLogger) Info(args ...any)  { a.l.Info(fmt.Sprint(args...)) }
+func (a asynqLogger) Warn(args ...any)  { a.l.Warn(fmt.Sprint(args...)) }
+func (a asynqLogger) Error(args ...any) { a.l.Error(fmt.Sprint(args...)) }
+func (a asynqLogger) Fatal(args ...any) { a.l.Error(fmt.Sprint(args...)) }

@@ -1,0 +1,292 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"net"
+	"net/http"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"sort"
+	"strconv"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"github.com/redis/go-redis/v9"
+
+	"matgate/worker"
+)
+
+// startRedis starts a private redis-server (flags only, a free loopback
+// port, persistence off, a temp directory) and stops it in t.Cleanup. It
+// skips without redis-server, and fails when CI=true.
+func startRedis(t *testing.T) string {
+	t.Helper()
+	bin, err := exec.LookPath("redis-server")
+	if err != nil {
+		if os.Getenv("CI") == "true" {
+			t.Fatalf("redis-server not found (CI=true, so this is a failure): %v", err)
+		}
+		t.Skipf("redis-server not found, skipping a test that needs a real Redis: %v", err)
+	}
+	port := freePort(t)
+	cmd := exec.Command(bin, "--port", strconv.Itoa(port), "--bind", "127.0.0.1", "--save", "", "--appendonly", "no",
+		"--dir", t.TempDir(), "--maxmemory-policy", "noeviction", "--logfile", "redis.log")
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { cmd.Process.Kill(); cmd.Wait() })
+	addr := "127.0.0.1:" + strconv.Itoa(port)
+	c := redis.NewClient(&redis.Options{Addr: addr})
+	defer c.Close()
+	for deadline := time.Now().Add(10 * time.Second); c.Ping(context.Background()).Err() != nil; time.Sleep(20 * time.Millisecond) {
+		if time.Now().After(deadline) {
+			t.Fatalf("redis-server on %s does not answer", addr)
+		}
+	}
+	return "redis://" + addr + "/0"
+}
+
+func freePort(t *testing.T) int {
+	l, err := net.Listen("tcp", "127.0.0.1:0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer l.Close()
+	return l.Addr().(*net.TCPAddr).Port
+}
+
+// syncBuffer is a bytes.Buffer safe for the concurrent writes of a
+// background command's log.
+type syncBuffer struct {
+	mu sync.Mutex
+	b  bytes.Buffer
+}
+
+func (s *syncBuffer) Write(p []byte) (int, error) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.b.Write(p)
+}
+
+func (s *syncBuffer) String() string {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.b.String()
+}
+
+// background runs a long-running matgate command until the test ends.
+func background(t *testing.T, args ...string) *syncBuffer {
+	ctx, cancel := context.WithCancel(context.Background())
+	log := &syncBuffer{}
+	done := make(chan int, 1)
+	go func() { done <- run(ctx, args, strings.NewReader(""), log, log) }()
+	t.Cleanup(func() {
+		cancel()
+		select {
+		case code := <-done:
+			if code != 0 {
+				t.Errorf("%s exited %d:\n%s", args[0], code, log)
+			}
+		case <-time.After(30 * time.Second):
+			t.Errorf("%s did not stop within 30 s of its context ending", args[0])
+		}
+	})
+	return log
+}
+
+// TestServiceCommands runs serve and worker as the commands do, submits
+// the demo cards with matgate submit, and checks that the downloaded
+// records equal matgate verify's apart from created and digest, that the
+// records directory verifies, and that verify --store gives a records
+// directory with the same files.
+func TestServiceCommands(t *testing.T) {
+	redisURL := startRedis(t)
+	dir := t.TempDir()
+	secret, tok := worker.NewToken("ci", []string{"submit", "read"})
+	cfg := filepath.Join(dir, "matgate.yaml")
+	os.WriteFile(cfg, []byte("redis:\n  url: "+redisURL+"\nauth:\n  tokens:\n    - name: ci\n      sha256: "+tok.SHA256+"\n      scopes: [submit, read]\nverify:\n  budget: 1m\n"), 0o644)
+	addr := "127.0.0.1:" + strconv.Itoa(freePort(t))
+	store := filepath.Join(dir, "records")
+	serveLog := background(t, "serve", "--config", cfg, "--listen", addr, "--store", store)
+	background(t, "worker", "--config", cfg, "--concurrency", "2")
+	for deadline := time.Now().Add(10 * time.Second); ; time.Sleep(20 * time.Millisecond) {
+		resp, err := http.Get("http://" + addr + "/readyz")
+		if err == nil && resp.StatusCode == 200 {
+			resp.Body.Close()
+			break
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("serve not ready: %v\n%s", err, serveLog)
+		}
+	}
+	if strings.Contains(serveLog.String(), secret) {
+		t.Errorf("serve logged a token")
+	}
+
+	t.Setenv("MATGATE_TOKEN", "")
+	if code, _, errOut := matgate(t, "", "submit", "--server", "http://"+addr, "../../testdata/cards"); code != exitInvalid || !strings.Contains(errOut, "MATGATE_TOKEN") {
+		t.Errorf("submit without a token: exit %d %s", code, errOut)
+	}
+	t.Setenv("MATGATE_TOKEN", secret)
+	out := filepath.Join(dir, "out")
+	junit := filepath.Join(dir, "junit.xml")
+	code, stdout, stderr := matgate(t, "", "submit", "--server", "http://"+addr, "--out", out, "--junit", junit, "--timeout", "2m", "../../testdata/cards")
+	if code != exitPass || !strings.Contains(stdout, "3 card(s): 3 passed") {
+		t.Fatalf("submit: exit %d\n%s%s\nserve:\n%s", code, stdout, stderr, serveLog)
+	}
+	if !strings.Contains(stderr, "submitted demo-canopy-steel r4") {
+		t.Errorf("no progress lines on stderr:\n%s", stderr)
+	}
+	if _, err := os.Stat(junit); err != nil {
+		t.Errorf("junit: %v", err)
+	}
+	local := filepath.Join(dir, "local")
+	localStore := filepath.Join(dir, "local-records")
+	if code, o, e := matgate(t, "", "verify", "--out", local, "--store", localStore, "../../testdata/cards"); code != exitPass {
+		t.Fatalf("verify: exit %d %s%s", code, o, e)
+	}
+	for _, base := range []string{"demo-canopy-aluminium-r2", "demo-canopy-stainless-r1", "demo-canopy-steel-r4"} {
+		a, b := readRecord(t, filepath.Join(out, base+".record.json")), readRecord(t, filepath.Join(local, base+".record.json"))
+		for _, k := range []string{"created", "digest"} {
+			delete(a, k)
+			delete(b, k)
+		}
+		if ja, jb := mustJSON(t, a), mustJSON(t, b); ja != jb {
+			t.Errorf("%s: the queued record differs from matgate verify's beyond created and digest", base)
+		}
+		ca, _ := os.ReadFile(filepath.Join(out, base+".card.json"))
+		cb, _ := os.ReadFile(filepath.Join(local, base+".card.json"))
+		if len(ca) == 0 || !bytes.Equal(ca, cb) {
+			t.Errorf("%s: neutral cards differ", base)
+		}
+	}
+	for _, d := range []string{store, localStore} {
+		if code, o, _ := matgate(t, "", "ledger", "verify", d); code != 0 || !strings.Contains(o, "intact") || !strings.Contains(o, "3 record(s), 6 file(s)") {
+			t.Errorf("ledger verify %s: exit %d %s", d, code, o)
+		}
+	}
+	if a, b := storeFiles(t, store), storeFiles(t, localStore); strings.Join(a, " ") != strings.Join(b, " ") || len(a) != 6 {
+		t.Errorf("records directories hold different files:\n serve  %v\n verify %v", a, b)
+	}
+	// A second submission is answered from the records (303) and gives
+	// the same outcome.
+	if code, stdout, _ := matgate(t, "", "submit", "--server", "http://"+addr, "--out", out, "../../testdata/cards/steel-prager.json"); code != exitPass {
+		t.Errorf("resubmission: exit %d\n%s", code, stdout)
+	}
+	// A damaged records directory is a break (exit 1).
+	files := storeFiles(t, localStore)
+	p := filepath.Join(localStore, files[0])
+	os.Chmod(p, 0o644)
+	os.WriteFile(p, []byte("{}\n"), 0o644)
+	if code, o, _ := matgate(t, "", "ledger", "verify", localStore); code != exitFailed || !strings.Contains(o, "BROKEN") {
+		t.Errorf("damaged directory: exit %d %s", code, o)
+	}
+}
+
+func storeFiles(t *testing.T, dir string) []string {
+	var out []string
+	filepath.Walk(dir, func(p string, info os.FileInfo, err error) error {
+		if err == nil && !info.IsDir() && strings.HasSuffix(p, ".json") {
+			rel, _ := filepath.Rel(dir, p)
+			out = append(out, rel)
+		}
+		return nil
+	})
+	sort.Strings(out)
+	return out
+}
+
+func mustJSON(t *testing.T, v any) string {
+	b, err := jsonMarshal(v)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return string(b)
+}
+
+// TestConfigLayers: defaults < file < environment < flags, unknown keys
+// are errors, and Validate reports every bad field at once.
+func TestConfigLayers(t *testing.T) {
+	dir := t.TempDir()
+	cfgFile := filepath.Join(dir, "m.yaml")
+	os.WriteFile(cfgFile, []byte("server:\n  listen: 127.0.0.1:9001\nstore:\n  dir: from-file\nworker:\n  concurrency: 3\n"), 0o644)
+	t.Setenv("MATGATE_STORE_DIR", "from-env")
+	t.Setenv("MATGATE_VERIFY_BUDGET", "45s")
+	cmd := newServeCmd(&env{})
+	cmd.Flags().Set("config", cfgFile)
+	cmd.Flags().Set("listen", "127.0.0.1:9002")
+	c, err := loadConfig(cmd, map[string]string{"server.listen": "listen", "store.dir": "store"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Server.Listen != "127.0.0.1:9002" || c.Store.Dir != "from-env" || c.Worker.Concurrency != 3 || c.Verify.Budget != 45*time.Second ||
+		c.Redis.URL != "redis://127.0.0.1:6379/0" || c.Server.MaxBody != 1<<20 {
+		t.Errorf("layers: %+v", c)
+	}
+	// Tokens from the environment as JSON.
+	_, tok := worker.NewToken("env", []string{"read"})
+	t.Setenv("MATGATE_AUTH_TOKENS", `[{"name":"env","sha256":"`+tok.SHA256+`","scopes":["read"]}]`)
+	if c, err := loadConfig(newServeCmd(&env{}), nil); err != nil || len(c.Auth.Tokens) != 1 || c.Auth.Tokens[0].Scopes[0] != "read" {
+		t.Errorf("tokens from MATGATE_AUTH_TOKENS: %+v %v", c, err)
+	}
+	os.Unsetenv("MATGATE_AUTH_TOKENS")
+
+	os.WriteFile(cfgFile, []byte("server:\n  lisen: 127.0.0.1:9001\n"), 0o644)
+	cmd = newServeCmd(&env{})
+	cmd.Flags().Set("config", cfgFile)
+	if _, err := loadConfig(cmd, nil); err == nil || !strings.Contains(err.Error(), "lisen") {
+		t.Errorf("unknown key: %v", err)
+	}
+	os.WriteFile(cfgFile, []byte("redis:\n  url: http://x\nserver:\n  listen: nowhere\nverify:\n  profile: quick\n  budget: 1m\nauth:\n  tokens:\n    - {name: a, sha256: abc, scopes: [write]}\n"), 0o644)
+	t.Setenv("MATGATE_VERIFY_BUDGET", "-1s") // the environment beats the file's value
+	cmd = newServeCmd(&env{})
+	cmd.Flags().Set("config", cfgFile)
+	_, err = loadConfig(cmd, nil)
+	for _, key := range []string{"redis.url", "server.listen", "verify.profile", "verify.budget", "auth.tokens[0].sha256", "auth.tokens[0].scopes"} {
+		if err == nil || !strings.Contains(err.Error(), key) {
+			t.Errorf("Validate does not name %s: %v", key, err)
+		}
+	}
+	if code, _, _ := matgate(t, "", "serve", "--config", cfgFile); code != exitInvalid {
+		t.Errorf("serve with a bad configuration: exit %d, want 2", code)
+	}
+}
+
+// TestTokenNew: the printed entry's hash is the sha256 of the printed
+// token, and serve's configuration accepts it.
+func TestTokenNew(t *testing.T) {
+	code, out, errOut := matgate(t, "", "token", "new", "ci-bot", "--scopes", "submit")
+	if code != 0 {
+		t.Fatalf("exit %d %s", code, errOut)
+	}
+	var secret, sum string
+	for _, l := range strings.Split(out, "\n") {
+		l = strings.TrimSpace(l)
+		if strings.HasPrefix(l, "mgt_") {
+			secret = l
+		}
+		if s, ok := strings.CutPrefix(l, "sha256: "); ok {
+			sum = s
+		}
+	}
+	if secret == "" || sum != sha256Hex(secret) || !strings.Contains(out, "scopes: [submit]") {
+		t.Errorf("token new printed:\n%s", out)
+	}
+	if code, _, _ := matgate(t, "", "token", "new", "x", "--scopes", "admin"); code != exitInvalid {
+		t.Errorf("unknown scope: exit %d", code)
+	}
+}
+
+func jsonMarshal(v any) ([]byte, error) { return json.Marshal(v) }
+
+func sha256Hex(s string) string {
+	sum := sha256.Sum256([]byte(s))
+	return hex.EncodeToString(sum[:])
+}
