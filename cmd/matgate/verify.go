@@ -20,8 +20,8 @@ var commit = "unknown"
 
 func newVerifyCmd(e *env) *cobra.Command {
 	var (
-		outDir, junitPath, signKey, format string
-		withReport                         bool
+		outDir, junitPath, signKey, format, storeDir string
+		withReport                                   bool
 	)
 	c := &cobra.Command{
 		Use:   "verify FILE|DIR|-...",
@@ -34,6 +34,10 @@ reference integrator and writes, per card, into --out:
   <id>-r<revision>.monotonic.csv  monotonic tension: strain, plastic strain, stress
   <id>-r<revision>.cyclic.csv     stabilized cyclic curve from the loop tips
   <id>-r<revision>.report.html    with --report: the record with plots
+
+With --store DIR each record and neutral card also goes into the records
+directory DIR, as matgate serve keeps it (immutable files named by job id,
+a hash-chained ledger; check it with matgate ledger verify DIR).
 
 Exit 0 when every card passes, 1 when a verification failed, 2 when a card is
 invalid, 3 on an internal error. Invalid cards never stop the others.
@@ -59,13 +63,20 @@ references; it does not show fitness for design.`,
 			if err := os.MkdirAll(outDir, 0o755); err != nil {
 				return &exitError{code: exitInternal, err: err}
 			}
+			var store *worker.DirStore
+			if storeDir != "" {
+				if store, err = worker.OpenDirStore(storeDir); err != nil {
+					return &exitError{code: exitInternal, err: err}
+				}
+				defer store.Close()
+			}
 			var sum verifySummary
 			var suites []junitSuite
 			for i, n := range names {
 				if len(names) > 1 {
 					fmt.Fprintf(e.stderr, "[%d/%d] %s\n", i+1, len(names), n)
 				}
-				o := verifyOne(cmd, e, n, outDir, withReport, priv)
+				o := verifyOne(cmd, e, n, outDir, withReport, priv, store, storeDir)
 				sum.add(o)
 				if format == "text" {
 					o.print(e)
@@ -96,6 +107,7 @@ references; it does not show fitness for design.`,
 	c.Flags().StringVar(&junitPath, "junit", "", "write JUnit XML to this file (one test case a check)")
 	c.Flags().StringVar(&signKey, "sign-key", "", "sign each record with this ed25519 private key (PEM, PKCS #8)")
 	c.Flags().StringVar(&format, "format", "text", "output format: text or json")
+	c.Flags().StringVar(&storeDir, "store", "", "also keep each record and neutral card in this records directory (as serve does: immutable files and a ledger)")
 	return c
 }
 
@@ -116,7 +128,7 @@ type verifyOutcome struct {
 	record *checks.Record
 }
 
-func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool, priv ed25519.PrivateKey) verifyOutcome {
+func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool, priv ed25519.PrivateKey, store *worker.DirStore, storeDir string) verifyOutcome {
 	l := loadCard(e, name)
 	o := verifyOutcome{File: l.file}
 	for _, d := range l.diags {
@@ -141,26 +153,17 @@ func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool,
 			return fail(err)
 		}
 	}
-	o.record = out.Record
+	o.fromRecord(out.Record)
 	for _, d := range out.Diagnoses {
 		o.Diagnoses = append(o.Diagnoses, d.Describe(l.doc.Card))
 	}
-	o.Status = out.Record.Verdict
-	for _, cs := range out.Record.Cases {
-		for _, ck := range cs.Checks {
-			o.Checks++
-			if !ck.Pass {
-				o.Failed = append(o.Failed, cs.Name+"/"+ck.Name)
-			}
-		}
-	}
 	base := filepath.Join(outDir, fmt.Sprintf("%s-r%d", l.card.ID, l.card.Revision))
-	rec, err := json.MarshalIndent(out.Record, "", "  ")
+	rec, err := worker.RecordJSON(out.Record)
 	if err != nil {
 		return fail(err)
 	}
 	files := map[string][]byte{
-		base + ".record.json": append(rec, '\n'),
+		base + ".record.json": rec,
 		base + ".card.json":   out.Card,
 	}
 	for _, t := range out.Tables {
@@ -178,6 +181,15 @@ func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool,
 			return fail(err)
 		}
 		o.Outputs = append(o.Outputs, p)
+	}
+	if store != nil {
+		// The same records directory as serve's: the job id of the card
+		// under this tool version, immutable files, a ledger line.
+		id := worker.JobID(l.card.Digest, worker.Settings{ToolVersion: version})
+		if _, err := store.Put(id, rec, out.Card); err != nil {
+			return fail(err)
+		}
+		o.Outputs = append(o.Outputs, filepath.Join(storeDir, id[:2], id+".record.json"))
 	}
 	return o
 }
