@@ -31,6 +31,7 @@ type Record struct {
 	Settings  Settings   `json:"settings"`
 	Cases     []Case     `json:"cases"`
 	Verdict   string     `json:"verdict"`
+	Findings  []string   `json:"findings,omitempty"` // see Result.Findings
 	Caution   string     `json:"caution"`
 	Digest    string     `json:"digest,omitempty"`    // "sha256:" + hex
 	Signature *Signature `json:"signature,omitempty"` //
@@ -91,6 +92,7 @@ func NewRecord(res *Result, card RecordCard, tool Tool, created time.Time) (*Rec
 		Settings: res.Settings,
 		Cases:    res.Cases,
 		Verdict:  res.Verdict,
+		Findings: res.Findings,
 		Caution:  Caution,
 	}
 	d, err := r.ComputeDigest()

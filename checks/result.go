@@ -11,6 +11,10 @@ type Result struct {
 	Settings Settings `json:"settings"`
 	Cases    []Case   `json:"cases"`
 	Verdict  string   `json:"verdict"` // "pass" | "fail"
+	// Findings are sentences the caller adds about failed checks, such as
+	// which usual misreading of the card explains a failed reference curve;
+	// they go into the record and its digest.
+	Findings []string `json:"findings,omitempty"`
 }
 
 // Settings is everything needed to reproduce a Result: the resolved Spec

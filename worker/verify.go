@@ -67,6 +67,9 @@ func Verify(ctx context.Context, c *schema.Card, tool checks.Tool, created time.
 	if err != nil {
 		return nil, fmt.Errorf("diagnose %s: %w", c.ID, err)
 	}
+	for _, d := range diags {
+		res.Findings = append(res.Findings, d.Describe(nil))
+	}
 	canon, err := convert.Canonical(c)
 	if err != nil {
 		return nil, err
