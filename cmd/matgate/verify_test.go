@@ -200,6 +200,10 @@ verification:
 		if tc.want == exitFailed && (len(failed) == 0 || !allContain(failed, "solver-tension-reversal")) {
 			t.Errorf("%s: failed checks %v, want only the reference curve's", tc.form, failed)
 		}
+		// The record says which misreading explains the failure.
+		if f, _ := rec["findings"].([]any); tc.want == exitFailed && (len(f) == 0 || !strings.Contains(fmt.Sprint(f...), "read as a plastic modulus")) {
+			t.Errorf("%s: findings %v, want the tangent-as-plastic diagnosis", tc.form, rec["findings"])
+		}
 		if tc.want == exitPass && len(failed) != 0 {
 			t.Errorf("%s: failed checks %v, want none", tc.form, failed)
 		}
