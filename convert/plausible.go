@@ -29,6 +29,14 @@ const (
 	// plastic strain of 3/gamma (exp(-3) = 0.05). Saturation within 1e-5,
 	// gamma > 3e5, is a step, not hardening: usually C and gamma swapped.
 	maxGamma = 3 / 1e-5
+	// Poisson's ratio of structural metals lies between about 0.25
+	// (beryllium is lower, 0.03, but is no structural metal here) and
+	// 0.44 (lead); outside [0.2, 0.45] the card is suspect. Above 0.49
+	// the reference integrator's 3D stress deviator loses digits to
+	// round-off (the bulk modulus E/(3(1 - 2 nu)) dwarfs the shear
+	// modulus), so such a card cannot be verified in 3D.
+	minMetalNu, maxMetalNu = 0.2, 0.45
+	maxIntegrableNu        = 0.49
 )
 
 // Plausibility returns the errors and warnings about a card that passed the
@@ -55,6 +63,12 @@ func Plausibility(doc *schema.Document) schema.Diagnostics {
 			msg += fmt.Sprintf("; the card is almost surely written in %s, not %s", u, unit)
 		}
 		add(schema.SeverityError, "/elastic/youngs_modulus", "%s", msg)
+	}
+	switch nu := c.Elastic.PoissonRatio; {
+	case nu > maxIntegrableNu:
+		add(schema.SeverityError, "/elastic/poisson_ratio", "Poisson's ratio %g is above %g: nearly incompressible, no metal, and beyond what the reference integrator resolves in 3D", nu, maxIntegrableNu)
+	case nu < minMetalNu || nu > maxMetalNu:
+		add(schema.SeverityWarning, "/elastic/poisson_ratio", "Poisson's ratio %g is outside %g to %g, the range of structural metals", nu, minMetalNu, maxMetalNu)
 	}
 	sy := c.Plasticity.YieldStress
 	switch epsY := sy / E; {
