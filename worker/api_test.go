@@ -33,8 +33,15 @@ type apiStack struct {
 // newAPIStack starts Redis, a worker, serve's materializer and the API on
 // a loopback port; readTimeout bounds a request's body.
 func newAPIStack(t *testing.T, workers bool, readTimeout time.Duration) *apiStack {
+	return newAPIStackOn(t, nil, 0, workers, readTimeout)
+}
+
+// newAPIStackOn is newAPIStack on a given Redis (nil: a new one) with an
+// idle poll interval (zero: the tests' 20 ms).
+func newAPIStackOn(t testing.TB, r *testRedis, poll time.Duration, workers bool, readTimeout time.Duration) *apiStack {
 	t.Helper()
-	s := &apiStack{queueStack: newQueueStack(t, nil, false)}
+	s := &apiStack{queueStack: newQueueStack(t, r, false)}
+	s.poll = poll
 	s.metrics = NewMetrics(s.insp)
 	s.observe = s.metrics.Duration.Observe
 	if workers {

@@ -55,11 +55,12 @@ type queueStack struct {
 	insp    *asynq.Inspector
 	store   *DirStore
 	dir     string
-	runs    atomic.Int64 // verification tasks the worker ran
+	runs    atomic.Int64  // verification tasks the worker ran
+	poll    time.Duration // idle poll interval; zero: quiet's
 	observe func(seconds float64)
 }
 
-func newQueueStack(t *testing.T, r *testRedis, workers bool) *queueStack {
+func newQueueStack(t testing.TB, r *testRedis, workers bool) *queueStack {
 	t.Helper()
 	if r == nil {
 		r = startRedis(t)
@@ -82,17 +83,25 @@ func newQueueStack(t *testing.T, r *testRedis, workers bool) *queueStack {
 
 var quiet = ServerOptions{CheckInterval: 20 * time.Millisecond, LogLevel: asynq.FatalLevel, ShutdownTimeout: 5 * time.Second}
 
+func (s *queueStack) options() ServerOptions {
+	o := quiet
+	if s.poll > 0 {
+		o.CheckInterval = s.poll
+	}
+	return o
+}
+
 func (s *queueStack) handler() *Handler {
 	return &Handler{Redis: s.rdb, Queue: s.client, Tool: testTool}
 }
 
-func (s *queueStack) startWorker(t *testing.T) {
+func (s *queueStack) startWorker(t testing.TB) {
 	h := s.handler()
 	counted := asynq.HandlerFunc(func(ctx context.Context, task *asynq.Task) error {
 		s.runs.Add(1)
 		return h.ProcessTask(ctx, task)
 	})
-	o := quiet
+	o := s.options()
 	o.Concurrency = 2
 	srv, _ := NewVerifyServer(s.rdb, h, o)
 	mux := asynq.NewServeMux()
@@ -103,8 +112,8 @@ func (s *queueStack) startWorker(t *testing.T) {
 	t.Cleanup(srv.Shutdown)
 }
 
-func (s *queueStack) startMaterializer(t *testing.T) *asynq.Server {
-	srv, mux := NewMaterializeServer(s.rdb, &Materializer{Redis: s.rdb, Store: s.store, Observe: s.observe}, quiet)
+func (s *queueStack) startMaterializer(t testing.TB) *asynq.Server {
+	srv, mux := NewMaterializeServer(s.rdb, &Materializer{Redis: s.rdb, Store: s.store, Observe: s.observe}, s.options())
 	if err := srv.Start(mux); err != nil {
 		t.Fatal(err)
 	}

@@ -21,13 +21,13 @@ type testRedis struct {
 	Dir  string
 	args []string
 	cmd  *exec.Cmd
-	t    *testing.T
+	t    testing.TB
 }
 
 // startRedis starts a redis-server with persistence off, or with the extra
 // flags given (e.g. AOF on), waits for PING and stops it in t.Cleanup. It
 // skips the test when redis-server is missing, and fails it when CI=true.
-func startRedis(t *testing.T, extra ...string) *testRedis {
+func startRedis(t testing.TB, extra ...string) *testRedis {
 	t.Helper()
 	bin, err := exec.LookPath("redis-server")
 	if err != nil {
@@ -93,7 +93,7 @@ func (r *testRedis) stop() {
 }
 
 // client returns a go-redis client of the server, closed in t.Cleanup.
-func (r *testRedis) client(t *testing.T) *redis.Client {
+func (r *testRedis) client(t testing.TB) *redis.Client {
 	c := redis.NewClient(&redis.Options{Addr: r.Addr, ContextTimeoutEnabled: true})
 	t.Cleanup(func() { c.Close() })
 	return c

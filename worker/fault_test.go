@@ -1,0 +1,248 @@
+package worker
+
+import (
+	"context"
+	"fmt"
+	"net/http"
+	"os"
+	"os/exec"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"github.com/hibiken/asynq"
+	"github.com/redis/go-redis/v9"
+)
+
+// helperEnv, when set to a Redis address, turns the test binary into a
+// worker process (see TestMain), so that a test can kill a real process.
+const helperEnv = "MATGATE_TEST_WORKER_REDIS"
+
+func TestMain(m *testing.M) {
+	if addr := os.Getenv(helperEnv); addr != "" {
+		rdb := redis.NewClient(&redis.Options{Addr: addr})
+		client := asynq.NewClientFromRedisClient(rdb)
+		o := quiet
+		o.Concurrency = 1
+		srv, mux := NewVerifyServer(rdb, &Handler{Redis: rdb, Queue: client, Tool: testTool}, o)
+		if err := srv.Start(mux); err != nil {
+			fmt.Fprintln(os.Stderr, err)
+			os.Exit(3)
+		}
+		select {} // until killed
+	}
+	os.Exit(m.Run())
+}
+
+// slowCard is the stainless demo card sized to verify for several seconds
+// on one core: the strict profile, 1000 cycles at each of 20 amplitudes
+// and 5000 ratcheting cycles (a card of our own for this test).
+func slowCard(t *testing.T) []byte {
+	b, err := os.ReadFile("../testdata/cards/ss-chaboche.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var amps []string
+	for k := 1; k <= 20; k++ {
+		amps = append(amps, fmt.Sprintf("%.4f", 0.003+0.0007*float64(k)))
+	}
+	s := strings.Replace(string(b), "  profile: standard\n", "  profile: strict\n  cycles: 1000\n", 1)
+	s = strings.Replace(s, "strain_amplitudes: [0.004, 0.008]", "strain_amplitudes: ["+strings.Join(amps, ", ")+"]", 1)
+	s = strings.Replace(s, "cycles: 20}", "cycles: 5000}", 1)
+	if s == string(b) {
+		t.Fatal("the demo card changed: slowCard no longer applies")
+	}
+	return []byte(s)
+}
+
+// TestKilledWorkerRecovered kills a worker process (SIGKILL) in the middle
+// of a slow verification. asynq's lease on the task runs out (30 s) and the
+// next recovery scan (every minute) hands it to another worker, which
+// completes it: one record, one ledger line. Bounded at 3 minutes.
+func TestKilledWorkerRecovered(t *testing.T) {
+	r := startRedis(t)
+	s := newQueueStack(t, r, false)
+	s.startMaterializer(t)
+	c := prepareTestCard(t, "slow.yaml", slowCard(t))
+	task, id, err := NewVerifyTask(c, Settings{ToolVersion: testTool.Version}, TaskTimeout(DefaultBudget))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := s.client.Enqueue(task); err != nil {
+		t.Fatal(err)
+	}
+	proc := exec.Command(os.Args[0], "-test.run=^$")
+	proc.Env = append(os.Environ(), helperEnv+"="+r.Addr)
+	proc.Stderr = os.Stderr
+	if err := proc.Start(); err != nil {
+		t.Fatal(err)
+	}
+	defer func() { proc.Process.Kill(); proc.Wait() }()
+	for deadline := time.Now().Add(30 * time.Second); ; time.Sleep(20 * time.Millisecond) {
+		info, err := s.insp.GetTaskInfo(QueueVerify, id)
+		if err == nil && info.State == asynq.TaskStateActive {
+			break
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("the worker process did not take the task: %v %v", info, err)
+		}
+	}
+	time.Sleep(time.Second) // in the middle of the verification (several seconds)
+	if n, _ := s.rdb.Exists(context.Background(), recordKey(id)).Result(); n != 0 {
+		t.Fatal("the verification finished before the kill: make slowCard slower")
+	}
+	proc.Process.Kill()
+	proc.Wait()
+	killed := time.Now()
+	s.startWorker(t)
+	s.waitStored(t, 3*time.Minute, id)
+	t.Logf("recovered and stored %v after the kill", time.Since(killed).Round(time.Second))
+	if n := s.runs.Load(); n != 1 {
+		t.Errorf("the second worker ran the task %d times, want 1", n)
+	}
+	info, err := s.insp.GetTaskInfo(QueueVerify, id)
+	if err != nil || info.State != asynq.TaskStateCompleted || info.Retried < 1 {
+		t.Errorf("task after recovery: %+v %v; want completed after a retry", info, err)
+	}
+	if rep, _ := VerifyLedger(s.dir); rep.Break != nil || rep.Entries != 1 {
+		t.Errorf("ledger: %+v", rep)
+	}
+}
+
+// TestServeRestartBeforeMaterialize: serve is down while a worker writes
+// records; when it comes back on the same records directory, every record
+// becomes a file and nothing is lost.
+func TestServeRestartBeforeMaterialize(t *testing.T) {
+	s := newQueueStack(t, nil, false)
+	first := s.startMaterializer(t)
+	first.Shutdown()
+	s.store.Close()
+	s.startWorker(t)
+	var ids []string
+	for _, f := range demoCards {
+		task, id, err := NewVerifyTask(loadTestCard(t, "../testdata/cards/"+f), Settings{ToolVersion: testTool.Version}, time.Minute)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, err := s.client.Enqueue(task); err != nil {
+			t.Fatal(err)
+		}
+		ids = append(ids, id)
+	}
+	for deadline := time.Now().Add(time.Minute); ; time.Sleep(20 * time.Millisecond) {
+		info, err := queueInfo(s.insp, QueueMaterialize)
+		if err == nil && info.Pending == len(ids) {
+			break
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("materialize tasks: %+v %v", info, err)
+		}
+	}
+	for _, id := range ids {
+		if ttl, _ := s.rdb.TTL(context.Background(), recordKey(id)).Result(); ttl != -1 {
+			t.Errorf("%s: the Redis copy has TTL %v before it is a file, want none", id, ttl)
+		}
+	}
+	var err error
+	if s.store, err = OpenDirStore(s.dir); err != nil {
+		t.Fatal(err)
+	}
+	s.startMaterializer(t)
+	s.waitStored(t, time.Minute, ids...)
+	if rep, _ := VerifyLedger(s.dir); rep.Break != nil || rep.Entries != len(ids) {
+		t.Errorf("ledger: %+v", rep)
+	}
+	for _, id := range ids {
+		ttl, _ := s.rdb.TTL(context.Background(), recordKey(id)).Result()
+		if ttl <= 0 || ttl > RedisCopyTTL {
+			t.Errorf("%s: the Redis copy has TTL %v after it is a file, want (0, %v]", id, ttl, RedisCopyTTL)
+		}
+	}
+}
+
+// TestRedisRestartAOF: jobs accepted by a Redis with appendonly yes and
+// appendfsync always survive a SIGKILL of Redis before any worker ran.
+func TestRedisRestartAOF(t *testing.T) {
+	r := startRedis(t, "--appendonly", "yes", "--appendfsync", "always")
+	s := newQueueStack(t, r, false)
+	var ids []string
+	for _, f := range demoCards {
+		task, id, err := NewVerifyTask(loadTestCard(t, "../testdata/cards/"+f), Settings{ToolVersion: testTool.Version}, time.Minute)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, err := s.client.Enqueue(task); err != nil {
+			t.Fatal(err)
+		}
+		ids = append(ids, id)
+	}
+	r.restart()
+	s.startWorker(t)
+	s.startMaterializer(t)
+	s.waitStored(t, time.Minute, ids...)
+	if n := s.runs.Load(); n != int64(len(ids)) {
+		t.Errorf("%d verifications ran, want %d", n, len(ids))
+	}
+}
+
+// TestLoad1000 submits 1,000 distinct cards over HTTP from 8 clients at
+// once: every one is accepted, verified once and stored once, and the
+// ledger verifies.
+func TestLoad1000(t *testing.T) {
+	const n = 1000
+	s := newAPIStack(t, true, 0)
+	base, err := os.ReadFile("../testdata/cards/al-bilinear.yaml")
+	if err != nil || !strings.Contains(string(base), "revision: 2\n") {
+		t.Fatalf("the demo card changed: %v", err)
+	}
+	start := time.Now()
+	jobs := make(chan int)
+	ids := make([]string, n)
+	var wg sync.WaitGroup
+	for range 8 {
+		wg.Go(func() {
+			for i := range jobs {
+				card := strings.Replace(string(base), "revision: 2\n", fmt.Sprintf("revision: %d\n", 1000+i), 1)
+				resp, body := s.do(t, "POST", "/v1/cards", secretAll, "application/yaml", strings.NewReader(card))
+				if resp.StatusCode != http.StatusAccepted {
+					t.Errorf("card %d: %d %s", i, resp.StatusCode, body)
+					continue
+				}
+				ids[i] = strings.TrimPrefix(resp.Header.Get("Location"), "/v1/jobs/")
+			}
+		})
+	}
+	for i := range n {
+		jobs <- i
+	}
+	close(jobs)
+	wg.Wait()
+	t.Logf("%d submissions accepted in %v", n, time.Since(start).Round(time.Millisecond))
+	seen := map[string]bool{}
+	for _, id := range ids {
+		seen[id] = true
+	}
+	if len(seen) != n {
+		t.Fatalf("%d distinct job ids for %d distinct cards", len(seen), n)
+	}
+	for deadline := time.Now().Add(5 * time.Minute); ; time.Sleep(50 * time.Millisecond) {
+		info, err := queueInfo(s.insp, QueueVerify)
+		if err == nil && info.Completed == n {
+			break
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("verify queue after 5 minutes: %+v %v", info, err)
+		}
+	}
+	t.Logf("%d verifications completed after %v", n, time.Since(start).Round(time.Millisecond))
+	s.waitStored(t, 5*time.Minute, ids...)
+	t.Logf("%d records stored after %v", n, time.Since(start).Round(time.Millisecond))
+	if got := s.runs.Load(); got != n {
+		t.Errorf("%d verifications ran, want %d", got, n)
+	}
+	rep, err := VerifyLedger(s.dir)
+	if err != nil || rep.Break != nil || rep.Entries != n || rep.Files != 2*n {
+		t.Errorf("ledger: %+v %v", rep, err)
+	}
+}
