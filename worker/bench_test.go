@@ -64,7 +64,7 @@ func BenchmarkInProcess(b *testing.B) {
 					return
 				}
 				rec, _ := RecordJSON(out.Record)
-				if _, err := store.Put(JobID(c.Digest, Settings{ToolVersion: testTool.Version}), rec, out.Card); err != nil {
+				if _, err := store.Put(JobID(c.Digest, Settings{ToolVersion: testTool.Version}), MetaOf(out.Record), rec, out.Card); err != nil {
 					b.Error(err)
 					return
 				}

@@ -82,6 +82,7 @@ func (h *Handler) ProcessTask(ctx context.Context, t *asynq.Task) error {
 		return fmt.Errorf("verify task %s: %w", id, err)
 	}
 	var seconds float64
+	var meta RecordMeta
 	if n == 0 {
 		budget := h.Budget
 		if budget <= 0 {
@@ -111,6 +112,7 @@ func (h *Handler) ProcessTask(ctx context.Context, t *asynq.Task) error {
 		case err != nil:
 			return fmt.Errorf("verify task %s: %w: %w", id, err, asynq.SkipRetry)
 		}
+		meta = MetaOf(out.Record)
 		rec, err := RecordJSON(out.Record)
 		if err != nil {
 			return fmt.Errorf("verify task %s: %w: %w", id, err, asynq.SkipRetry)
@@ -119,7 +121,7 @@ func (h *Handler) ProcessTask(ctx context.Context, t *asynq.Task) error {
 			return fmt.Errorf("verify task %s: write outputs: %w", id, err)
 		}
 	}
-	_, err = h.Queue.EnqueueContext(ctx, newMaterializeTask(id, seconds))
+	_, err = h.Queue.EnqueueContext(ctx, newMaterializeTask(id, seconds, meta))
 	if err != nil && !errors.Is(err, asynq.ErrTaskIDConflict) {
 		return fmt.Errorf("verify task %s: enqueue materialize: %w", id, err)
 	}

@@ -47,7 +47,13 @@ func (m *Materializer) ProcessTask(ctx context.Context, t *asynq.Task) error {
 		// (eviction, a flushed database). Retrying cannot bring them back.
 		return fmt.Errorf("materialize %s: the record is neither in Redis nor in the records directory: %w", p.ID, asynq.SkipRetry)
 	}
-	added, err := m.Store.Put(p.ID, []byte(rec), []byte(card))
+	meta := p.Meta
+	if meta.CardID == "" {
+		if meta, err = metaFromJSON([]byte(rec)); err != nil {
+			return fmt.Errorf("materialize %s: %w: %w", p.ID, err, asynq.SkipRetry)
+		}
+	}
+	added, err := m.Store.Put(p.ID, meta, []byte(rec), []byte(card))
 	if errors.Is(err, ErrConflict) {
 		return fmt.Errorf("materialize %s: %w: %w", p.ID, err, asynq.SkipRetry)
 	}

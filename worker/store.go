@@ -164,18 +164,23 @@ func (s *DirStore) Has(id string) bool {
 	return ok
 }
 
-// Put stores the record and the neutral card of id as immutable files and
-// appends their ledger line, each durable (fsynced) before Put returns. It
-// is idempotent: a record already in the ledger is left alone (added is
-// false), and files that a crashed earlier Put left behind are taken when
-// their content is the same. A file of the id with other content is
-// ErrConflict.
-func (s *DirStore) Put(id string, record, card []byte) (added bool, err error) {
-	if !ValidID(id) {
-		return false, fmt.Errorf("put: malformed record id %q", id)
-	}
-	// The ledger's fields only: a record is large (every case's series),
-	// and the full checks.ParseRecord costs several times this.
+// RecordMeta is what the ledger says of a record besides its hashes.
+type RecordMeta struct {
+	CardID   string `json:"card_id"`
+	Revision int    `json:"revision"`
+	Verdict  string `json:"verdict"`
+	Created  string `json:"created"`
+}
+
+// MetaOf returns the ledger fields of a record.
+func MetaOf(r *checks.Record) RecordMeta {
+	return RecordMeta{CardID: r.Card.ID, Revision: r.Card.Revision, Verdict: r.Verdict, Created: r.Created}
+}
+
+// metaFromJSON reads the ledger fields from a record's bytes, for a caller
+// that has only those. A record is large (every case's series): this costs
+// some milliseconds, which is why Put takes the fields from its caller.
+func metaFromJSON(record []byte) (RecordMeta, error) {
 	var rec struct {
 		Card struct {
 			ID       string `json:"id"`
@@ -185,7 +190,23 @@ func (s *DirStore) Put(id string, record, card []byte) (added bool, err error) {
 		Created string `json:"created"`
 	}
 	if err := json.Unmarshal(record, &rec); err != nil || rec.Card.ID == "" || rec.Verdict == "" {
-		return false, fmt.Errorf("put %s: not a verification record (%v)", id, err)
+		return RecordMeta{}, fmt.Errorf("not a verification record (%v)", err)
+	}
+	return RecordMeta{CardID: rec.Card.ID, Revision: rec.Card.Revision, Verdict: rec.Verdict, Created: rec.Created}, nil
+}
+
+// Put stores the record and the neutral card of id as immutable files and
+// appends their ledger line (with m, the record's own fields), each
+// durable (fsynced) before Put returns. It is idempotent: a record already
+// in the ledger is left alone (added is false), and files that a crashed
+// earlier Put left behind are taken when their content is the same. A file
+// of the id with other content is ErrConflict.
+func (s *DirStore) Put(id string, m RecordMeta, record, card []byte) (added bool, err error) {
+	if !ValidID(id) {
+		return false, fmt.Errorf("put: malformed record id %q", id)
+	}
+	if m.CardID == "" || m.Verdict == "" {
+		return false, fmt.Errorf("put %s: the record's card id and verdict are missing", id)
 	}
 	s.mu.Lock()
 	defer s.mu.Unlock()
@@ -210,8 +231,8 @@ func (s *DirStore) Put(id string, record, card []byte) (added bool, err error) {
 		return false, fmt.Errorf("put %s: %w", id, err)
 	}
 	e := LedgerEntry{
-		Seq: len(s.entries) + 1, ID: id, CardID: rec.Card.ID, Revision: rec.Card.Revision,
-		Verdict: rec.Verdict, Created: rec.Created,
+		Seq: len(s.entries) + 1, ID: id, CardID: m.CardID, Revision: m.Revision,
+		Verdict: m.Verdict, Created: m.Created,
 		RecordSHA256: sha256Hex(record), CardSHA256: sha256Hex(card), Prev: s.last,
 	}
 	line, err := json.Marshal(e)

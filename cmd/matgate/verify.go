@@ -186,7 +186,7 @@ func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool,
 		// The same records directory as serve's: the job id of the card
 		// under this tool version, immutable files, a ledger line.
 		id := worker.JobID(l.card.Digest, worker.Settings{ToolVersion: version})
-		if _, err := store.Put(id, rec, out.Card); err != nil {
+		if _, err := store.Put(id, worker.MetaOf(out.Record), rec, out.Card); err != nil {
 			return fail(err)
 		}
 		o.Outputs = append(o.Outputs, filepath.Join(storeDir, id[:2], id+".record.json"))
