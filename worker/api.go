@@ -358,6 +358,8 @@ func (a *API) job(w http.ResponseWriter, r *http.Request) {
 			problem(w, r, http.StatusNotFound, "no such job", "no job or record has id "+id, nil)
 			return
 		}
+	case err != nil && j.State == JobDone && j.Stored:
+		// Redis is down but the record is a file: the job's answer stands.
 	case err != nil:
 		a.unavailable(w, r, err)
 		return

@@ -322,8 +322,22 @@ func TestAPIBadInput(t *testing.T) {
 // and readiness fails; liveness does not.
 func TestAPIRedisDown(t *testing.T) {
 	s := newAPIStack(t, false, 0)
+	// A record already in the records directory stays readable.
+	id, rec, card := storeOutputs(t, "steel-prager.json")
+	if _, err := putJSON(t, s.store, id, rec, card); err != nil {
+		t.Fatal(err)
+	}
 	s.redis.stop()
-	card, _ := os.ReadFile("../testdata/cards/al-bilinear.yaml")
+	for _, p := range []string{"/v1/jobs/" + id, "/v1/records/" + id} {
+		if resp, body := s.do(t, "GET", p, secretRead, "", nil); resp.StatusCode != 200 {
+			t.Errorf("%s with Redis down: %d %s", p, resp.StatusCode, body)
+		}
+	}
+	b, _ := os.ReadFile("../testdata/cards/steel-prager.json")
+	if resp, _ := s.do(t, "POST", "/v1/cards", secretAll, "application/json", strings.NewReader(string(b))); resp.StatusCode != http.StatusSeeOther {
+		t.Errorf("resubmitting a stored card with Redis down: %d, want 303", resp.StatusCode)
+	}
+	card, _ = os.ReadFile("../testdata/cards/al-bilinear.yaml")
 	resp, body := s.do(t, "POST", "/v1/cards", secretAll, "application/yaml", strings.NewReader(string(card)))
 	if resp.StatusCode != 503 || resp.Header.Get("Retry-After") == "" {
 		t.Errorf("submit: %d Retry-After %q\n%s", resp.StatusCode, resp.Header.Get("Retry-After"), body)

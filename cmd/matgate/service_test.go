@@ -180,6 +180,20 @@ func TestServiceCommands(t *testing.T) {
 	if code, stdout, _ := matgate(t, "", "submit", "--server", "http://"+addr, "--out", out, "../../testdata/cards/steel-prager.json"); code != exitPass {
 		t.Errorf("resubmission: exit %d\n%s", code, stdout)
 	}
+	// An invalid card is reported from the local check (exit 2) and never
+	// reaches the server; the valid card beside it is still verified.
+	bad := filepath.Join(dir, "bad.yaml")
+	b, _ := os.ReadFile("../../testdata/cards/al-bilinear.yaml")
+	os.WriteFile(bad, []byte(strings.Replace(string(b), "poisson_ratio: 0.33", "poisson_ratio: 0.7", 1)), 0o644)
+	code, stdout, stderr = matgate(t, "", "submit", "--server", "http://"+addr, "--out", out, bad, "../../testdata/cards/steel-prager.json")
+	if code != exitInvalid || !strings.Contains(stdout, "/elastic/poisson_ratio") || !strings.Contains(stdout, "1 passed, 0 failed, 1 invalid") || strings.Contains(stderr, "submitted demo-canopy-aluminium") {
+		t.Errorf("submit with an invalid card: exit %d\n%s%s", code, stdout, stderr)
+	}
+	// A wrong token is a service error (exit 3).
+	t.Setenv("MATGATE_TOKEN", secret+"x")
+	if code, _, errOut := matgate(t, "", "submit", "--server", "http://"+addr, "--out", out, "../../testdata/cards/steel-prager.json"); code != exitInternal || !strings.Contains(errOut, "401") {
+		t.Errorf("wrong token: exit %d %s", code, errOut)
+	}
 	// A damaged records directory is a break (exit 1).
 	files := storeFiles(t, localStore)
 	p := filepath.Join(localStore, files[0])
