@@ -246,3 +246,48 @@ func TestLoad1000(t *testing.T) {
 		t.Errorf("ledger: %+v %v", rep, err)
 	}
 }
+
+// TestWorkerShutdownRequeues stops a worker (as SIGTERM does) in the middle
+// of a slow verification: the task goes back to the queue without spending
+// a retry, and the next worker completes it with one record.
+func TestWorkerShutdownRequeues(t *testing.T) {
+	s := newQueueStack(t, nil, false)
+	s.startMaterializer(t)
+	c := prepareTestCard(t, "slow.yaml", slowCard(t))
+	task, id, err := NewVerifyTask(c, Settings{ToolVersion: testTool.Version}, TaskTimeout(DefaultBudget))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := s.client.Enqueue(task); err != nil {
+		t.Fatal(err)
+	}
+	o := s.options()
+	o.Concurrency, o.ShutdownTimeout = 1, 200*time.Millisecond
+	first, mux := NewVerifyServer(s.rdb, s.handler(), o)
+	if err := first.Start(mux); err != nil {
+		t.Fatal(err)
+	}
+	for deadline := time.Now().Add(30 * time.Second); ; time.Sleep(20 * time.Millisecond) {
+		info, err := s.insp.GetTaskInfo(QueueVerify, id)
+		if err == nil && info.State == asynq.TaskStateActive {
+			break
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("the first worker did not take the task: %v", err)
+		}
+	}
+	time.Sleep(500 * time.Millisecond)
+	first.Shutdown()
+	info, err := s.insp.GetTaskInfo(QueueVerify, id)
+	if err != nil || info.State != asynq.TaskStatePending || info.Retried != 0 {
+		t.Fatalf("after shutdown: %+v %v; want pending with no retry spent", info, err)
+	}
+	if n, _ := s.rdb.Exists(context.Background(), recordKey(id)).Result(); n != 0 {
+		t.Fatal("the verification finished before the shutdown: make slowCard slower")
+	}
+	s.startWorker(t)
+	s.waitStored(t, 2*time.Minute, id)
+	if rep, _ := VerifyLedger(s.dir); rep.Break != nil || rep.Entries != 1 {
+		t.Errorf("ledger: %+v", rep)
+	}
+}
