@@ -101,22 +101,31 @@ func buildPlot(c checks.Case, shear bool) (*plot.Plot, error) {
 	if shear {
 		p.X.Label.Text, p.Y.Label.Text = "axial stress (MPa)", "shear stress (MPa)"
 	}
-	pts := make(plotter.XYs, len(c.Series))
+	// One line per run of consecutive samples: a Gap sample starts a new
+	// one, so increments left out of the series are not drawn across.
+	var runs []plotter.XYs
 	for i, s := range c.Series {
+		if i == 0 || s.Gap {
+			runs = append(runs, nil)
+		}
+		xy := plotter.XY{X: s.Strain, Y: s.Stress / 1e6}
 		if shear {
-			pts[i] = plotter.XY{X: s.Stress / 1e6, Y: s.ShearStress / 1e6}
-		} else {
-			pts[i] = plotter.XY{X: s.Strain, Y: s.Stress / 1e6}
+			xy = plotter.XY{X: s.Stress / 1e6, Y: s.ShearStress / 1e6}
+		}
+		runs[len(runs)-1] = append(runs[len(runs)-1], xy)
+	}
+	for i, pts := range runs {
+		line, err := plotter.NewLine(pts)
+		if err != nil {
+			return nil, err
+		}
+		line.Color = inkResponse
+		line.Width = vg.Points(1.2)
+		p.Add(line)
+		if i == 0 {
+			p.Legend.Add("reference integrator", line)
 		}
 	}
-	line, err := plotter.NewLine(pts)
-	if err != nil {
-		return nil, err
-	}
-	line.Color = inkResponse
-	line.Width = vg.Points(1.2)
-	p.Add(line)
-	p.Legend.Add("reference integrator", line)
 	if !shear {
 		for i, cv := range c.Curves {
 			xy := make(plotter.XYs, len(cv.Points))
@@ -170,7 +179,7 @@ tr.broke td{background:#fbeae3}.small{color:#555;font-size:.85em}
 <h2>{{.Name}} <span class="small">({{.Kind}})</span></h2>
 <p>{{.Loading}}</p>
 {{if .Skipped}}<p><em>Not run: {{.Skipped}}</em></p>{{else}}
-{{range .Plots}}<div>{{.}}</div>{{end}}
+{{range .Plots}}<div>{{.}}</div>{{end}}{{if .Plots}}<p class="small">The plot shows every increment of a short run, and the first and last 200 increments of a long one (the lines break where increments are left out).</p>{{end}}
 <table><tr><th></th><th>check</th><th>quantity</th><th>value</th><th>reference</th><th>tolerance</th><th>unit</th><th>reference from</th><th>tolerance basis</th></tr>
 {{range .Checks}}<tr{{if not .Pass}} class="broke"{{end}}><td>{{if .Pass}}&#10003;{{else}}&#10007;{{end}}</td><td>{{.Name}}</td><td>{{.Quantity}}</td><td>{{g .Value}}</td><td>{{g .Reference}}</td><td>{{g .Tolerance}} {{.ToleranceKind}}{{with .Bound}} ({{.}}){{end}}</td><td>{{.Unit}}</td><td class="small">{{.ReferenceSource}}</td><td class="small">{{.ToleranceBasis}}</td></tr>
 {{end}}</table>
