@@ -119,17 +119,7 @@ func TestServeRestartBeforeMaterialize(t *testing.T) {
 	first.Shutdown()
 	s.store.Close()
 	s.startWorker(t)
-	var ids []string
-	for _, f := range demoCards {
-		task, id, err := NewVerifyTask(loadTestCard(t, "../testdata/cards/"+f), Settings{ToolVersion: testTool.Version}, time.Minute)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if _, err := s.client.Enqueue(task); err != nil {
-			t.Fatal(err)
-		}
-		ids = append(ids, id)
-	}
+	ids := enqueueDemoCards(t, s)
 	for deadline := time.Now().Add(time.Minute); ; time.Sleep(20 * time.Millisecond) {
 		info, err := queueInfo(s.insp, QueueMaterialize)
 		if err == nil && info.Pending == len(ids) {
@@ -166,17 +156,7 @@ func TestServeRestartBeforeMaterialize(t *testing.T) {
 func TestRedisRestartAOF(t *testing.T) {
 	r := startRedis(t, "--appendonly", "yes", "--appendfsync", "always")
 	s := newQueueStack(t, r, false)
-	var ids []string
-	for _, f := range demoCards {
-		task, id, err := NewVerifyTask(loadTestCard(t, "../testdata/cards/"+f), Settings{ToolVersion: testTool.Version}, time.Minute)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if _, err := s.client.Enqueue(task); err != nil {
-			t.Fatal(err)
-		}
-		ids = append(ids, id)
-	}
+	ids := enqueueDemoCards(t, s)
 	r.restart()
 	s.startWorker(t)
 	s.startMaterializer(t)
@@ -290,4 +270,22 @@ func TestWorkerShutdownRequeues(t *testing.T) {
 	if rep, _ := VerifyLedger(s.dir); rep.Break != nil || rep.Entries != 1 {
 		t.Errorf("ledger: %+v", rep)
 	}
+}
+
+// enqueueDemoCards enqueues a verification task for each demo card directly
+// (not through HTTP) and returns the job ids.
+func enqueueDemoCards(t *testing.T, s *queueStack) []string {
+	t.Helper()
+	var ids []string
+	for _, f := range demoCards {
+		task, id, err := NewVerifyTask(loadTestCard(t, "../testdata/cards/"+f), Settings{ToolVersion: testTool.Version}, time.Minute)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, err := s.client.Enqueue(task); err != nil {
+			t.Fatal(err)
+		}
+		ids = append(ids, id)
+	}
+	return ids
 }
