@@ -15,6 +15,8 @@ import (
 	"sync"
 	"testing"
 	"time"
+
+	"matgate/worker/redistest"
 )
 
 // Test tokens: secrets and their configuration entries.
@@ -38,7 +40,7 @@ func newAPIStack(t *testing.T, workers bool, readTimeout time.Duration) *apiStac
 
 // newAPIStackOn is newAPIStack on a given Redis (nil: a new one) with an
 // idle poll interval (zero: the tests' 20 ms).
-func newAPIStackOn(t testing.TB, r *testRedis, poll time.Duration, workers bool, readTimeout time.Duration) *apiStack {
+func newAPIStackOn(t testing.TB, r *redistest.Server, poll time.Duration, workers bool, readTimeout time.Duration) *apiStack {
 	t.Helper()
 	s := &apiStack{queueStack: newQueueStack(t, r, false)}
 	s.poll = poll
@@ -327,7 +329,7 @@ func TestAPIRedisDown(t *testing.T) {
 	if _, err := putJSON(t, s.store, id, rec, card); err != nil {
 		t.Fatal(err)
 	}
-	s.redis.stop()
+	s.redis.Stop()
 	for _, p := range []string{"/v1/jobs/" + id, "/v1/records/" + id} {
 		if resp, body := s.do(t, "GET", p, secretRead, "", nil); resp.StatusCode != 200 {
 			t.Errorf("%s with Redis down: %d %s", p, resp.StatusCode, body)

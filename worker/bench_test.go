@@ -11,6 +11,8 @@ import (
 	"sync/atomic"
 	"testing"
 	"time"
+
+	"matgate/worker/redistest"
 )
 
 // benchCard returns the i-th distinct variant of the aluminium demo card
@@ -89,7 +91,7 @@ func BenchmarkQueue(b *testing.B) {
 }
 
 func benchQueue(b *testing.B, poll time.Duration) {
-	s := newAPIStackOn(b, startRedis(b, "--appendonly", "yes", "--appendfsync", "always"), poll, true, 0)
+	s := newAPIStackOn(b, redistest.Start(b, "--appendonly", "yes", "--appendfsync", "always"), poll, true, 0)
 	cards := make([][]byte, b.N)
 	for i := range cards {
 		cards[i] = benchCard(b, i)

@@ -13,6 +13,8 @@ import (
 
 	"github.com/hibiken/asynq"
 	"github.com/redis/go-redis/v9"
+
+	"matgate/worker/redistest"
 )
 
 // helperEnv, when set to a Redis address, turns the test binary into a
@@ -61,7 +63,7 @@ func slowCard(t *testing.T) []byte {
 // next recovery scan (every minute) hands it to another worker, which
 // completes it: one record, one ledger line. Bounded at 3 minutes.
 func TestKilledWorkerRecovered(t *testing.T) {
-	r := startRedis(t)
+	r := redistest.Start(t)
 	s := newQueueStack(t, r, false)
 	s.startMaterializer(t)
 	c := prepareTestCard(t, "slow.yaml", slowCard(t))
@@ -154,10 +156,10 @@ func TestServeRestartBeforeMaterialize(t *testing.T) {
 // TestRedisRestartAOF: jobs accepted by a Redis with appendonly yes and
 // appendfsync always survive a SIGKILL of Redis before any worker ran.
 func TestRedisRestartAOF(t *testing.T) {
-	r := startRedis(t, "--appendonly", "yes", "--appendfsync", "always")
+	r := redistest.Start(t, "--appendonly", "yes", "--appendfsync", "always")
 	s := newQueueStack(t, r, false)
 	ids := enqueueDemoCards(t, s)
-	r.restart()
+	r.Restart()
 	s.startWorker(t)
 	s.startMaterializer(t)
 	s.waitStored(t, time.Minute, ids...)

@@ -16,6 +16,7 @@ import (
 	"matgate/checks"
 	"matgate/convert"
 	"matgate/schema"
+	"matgate/worker/redistest"
 )
 
 var testTool = checks.Tool{Version: "test", Commit: "none"}
@@ -49,7 +50,7 @@ func prepareTestCard(t testing.TB, name string, b []byte) *schema.Card {
 // queueStack is a worker and a materializer on one private Redis, in this
 // process.
 type queueStack struct {
-	redis   *testRedis
+	redis   *redistest.Server
 	rdb     *redis.Client
 	client  *asynq.Client
 	insp    *asynq.Inspector
@@ -60,12 +61,12 @@ type queueStack struct {
 	observe func(seconds float64)
 }
 
-func newQueueStack(t testing.TB, r *testRedis, workers bool) *queueStack {
+func newQueueStack(t testing.TB, r *redistest.Server, workers bool) *queueStack {
 	t.Helper()
 	if r == nil {
-		r = startRedis(t)
+		r = redistest.Start(t)
 	}
-	s := &queueStack{redis: r, rdb: r.client(t), dir: t.TempDir()}
+	s := &queueStack{redis: r, rdb: r.Client(t), dir: t.TempDir()}
 	s.client = asynq.NewClientFromRedisClient(s.rdb)
 	s.insp = asynq.NewInspectorFromRedisClient(s.rdb)
 	t.Cleanup(func() { s.client.Close(); s.insp.Close() })
@@ -275,11 +276,11 @@ func TestHandlerSkipRetry(t *testing.T) {
 // TestRedisDownIsRetried: with Redis gone the handler returns an error that
 // asynq retries (no SkipRetry).
 func TestRedisDownIsRetried(t *testing.T) {
-	r := startRedis(t)
+	r := redistest.Start(t)
 	s := newQueueStack(t, r, false)
 	c := loadTestCard(t, "../testdata/cards/al-bilinear.yaml")
 	task, _, _ := NewVerifyTask(c, Settings{ToolVersion: "test"}, time.Minute)
-	r.stop()
+	r.Stop()
 	ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
 	defer cancel()
 	err := s.handler().ProcessTask(ctx, task)

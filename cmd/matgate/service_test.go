@@ -9,7 +9,6 @@ import (
 	"net"
 	"net/http"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"sort"
 	"strconv"
@@ -18,40 +17,11 @@ import (
 	"testing"
 	"time"
 
-	"github.com/redis/go-redis/v9"
-
 	"matgate/worker"
+	"matgate/worker/redistest"
 )
 
-// startRedis starts a private redis-server (flags only, a free loopback
-// port, persistence off, a temp directory) and stops it in t.Cleanup. It
-// skips without redis-server, and fails when CI=true.
-func startRedis(t *testing.T) string {
-	t.Helper()
-	bin, err := exec.LookPath("redis-server")
-	if err != nil {
-		if os.Getenv("CI") == "true" {
-			t.Fatalf("redis-server not found (CI=true, so this is a failure): %v", err)
-		}
-		t.Skipf("redis-server not found, skipping a test that needs a real Redis: %v", err)
-	}
-	port := freePort(t)
-	cmd := exec.Command(bin, "--port", strconv.Itoa(port), "--bind", "127.0.0.1", "--save", "", "--appendonly", "no",
-		"--dir", t.TempDir(), "--maxmemory-policy", "noeviction", "--logfile", "redis.log")
-	if err := cmd.Start(); err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(func() { cmd.Process.Kill(); cmd.Wait() })
-	addr := "127.0.0.1:" + strconv.Itoa(port)
-	c := redis.NewClient(&redis.Options{Addr: addr})
-	defer c.Close()
-	for deadline := time.Now().Add(10 * time.Second); c.Ping(context.Background()).Err() != nil; time.Sleep(20 * time.Millisecond) {
-		if time.Now().After(deadline) {
-			t.Fatalf("redis-server on %s does not answer", addr)
-		}
-	}
-	return "redis://" + addr + "/0"
-}
+func startRedis(t *testing.T) string { return redistest.Start(t).URL() }
 
 func freePort(t *testing.T) int {
 	l, err := net.Listen("tcp", "127.0.0.1:0")

@@ -1,4 +1,9 @@
-package worker
+// Package redistest starts private redis-server processes for tests: each
+// on its own free 127.0.0.1 port with its own directory, configured by flags
+// only (never the machine's config or its Redis on 6379). A test without
+// redis-server on the PATH is skipped with a message, and fails under
+// CI=true. It is imported by tests only.
+package redistest
 
 import (
 	"context"
@@ -13,10 +18,10 @@ import (
 	"github.com/redis/go-redis/v9"
 )
 
-// testRedis is a private redis-server for one test: its own port on
+// Server is a private redis-server for one test: its own port on
 // 127.0.0.1, its own directory, configured by flags only (never the
 // machine's config or its Redis on 6379).
-type testRedis struct {
+type Server struct {
 	Addr string
 	Dir  string
 	args []string
@@ -24,10 +29,10 @@ type testRedis struct {
 	t    testing.TB
 }
 
-// startRedis starts a redis-server with persistence off, or with the extra
+// Start starts a redis-server with persistence off, or with the extra
 // flags given (e.g. AOF on), waits for PING and stops it in t.Cleanup. It
 // skips the test when redis-server is missing, and fails it when CI=true.
-func startRedis(t testing.TB, extra ...string) *testRedis {
+func Start(t testing.TB, extra ...string) *Server {
 	t.Helper()
 	bin, err := exec.LookPath("redis-server")
 	if err != nil {
@@ -42,15 +47,15 @@ func startRedis(t testing.TB, extra ...string) *testRedis {
 	}
 	port := l.Addr().(*net.TCPAddr).Port
 	l.Close()
-	r := &testRedis{Addr: "127.0.0.1:" + strconv.Itoa(port), Dir: t.TempDir(), t: t}
+	r := &Server{Addr: "127.0.0.1:" + strconv.Itoa(port), Dir: t.TempDir(), t: t}
 	r.args = append([]string{"--port", strconv.Itoa(port), "--bind", "127.0.0.1", "--save", "", "--appendonly", "no",
 		"--dir", r.Dir, "--maxmemory-policy", "noeviction", "--loglevel", "warning", "--logfile", "redis.log"}, extra...)
 	r.start(bin)
-	t.Cleanup(r.stop)
+	t.Cleanup(r.Stop)
 	return r
 }
 
-func (r *testRedis) start(bin string) {
+func (r *Server) start(bin string) {
 	r.t.Helper()
 	r.cmd = exec.Command(bin, r.args...)
 	if err := r.cmd.Start(); err != nil {
@@ -67,23 +72,24 @@ func (r *testRedis) start(bin string) {
 			return
 		}
 		if time.Now().After(deadline) {
-			r.stop()
+			r.Stop()
 			r.t.Fatalf("redis-server on %s does not answer PING: %v", r.Addr, err)
 		}
 		time.Sleep(20 * time.Millisecond)
 	}
 }
 
-// restart stops the server (SIGKILL: nothing gets a chance to flush) and
+// Restart stops the server (SIGKILL: nothing gets a chance to flush) and
 // starts it again on the same port and directory.
-func (r *testRedis) restart() {
+func (r *Server) Restart() {
 	r.t.Helper()
 	bin := r.cmd.Path
-	r.stop()
+	r.Stop()
 	r.start(bin)
 }
 
-func (r *testRedis) stop() {
+// Stop kills the server; Start registers it with t.Cleanup.
+func (r *Server) Stop() {
 	if r.cmd == nil || r.cmd.Process == nil {
 		return
 	}
@@ -92,11 +98,12 @@ func (r *testRedis) stop() {
 	r.cmd = nil
 }
 
-// client returns a go-redis client of the server, closed in t.Cleanup.
-func (r *testRedis) client(t testing.TB) *redis.Client {
+// Client returns a go-redis client of the server, closed in t.Cleanup.
+func (r *Server) Client(t testing.TB) *redis.Client {
 	c := redis.NewClient(&redis.Options{Addr: r.Addr, ContextTimeoutEnabled: true})
 	t.Cleanup(func() { c.Close() })
 	return c
 }
 
-func (r *testRedis) URL() string { return fmt.Sprintf("redis://%s/0", r.Addr) }
+// URL is the server's redis:// address, database 0.
+func (r *Server) URL() string { return fmt.Sprintf("redis://%s/0", r.Addr) }
