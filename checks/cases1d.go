@@ -31,13 +31,14 @@ func (v *verifier) tipsOf(name string, strain bool, targets []float64) ([]tip, e
 	tips := make([]tip, 0, len(targets))
 	var t tip
 	for _, x := range targets {
+		var err error
 		if strain {
-			t = branchToStrain(v.m, t, x)
+			t, err = branchToStrain(v.m, t, x)
 		} else {
-			var err error
-			if t, err = branchToStress(v.m, t, x); err != nil {
-				return nil, err
-			}
+			t, err = branchToStress(v.m, t, x)
+		}
+		if err != nil {
+			return nil, err
 		}
 		tips = append(tips, t)
 	}
@@ -95,7 +96,10 @@ func (v *verifier) monotonic(sign float64) caseFn {
 			return c, CaseSetting{}, err
 		}
 		n := d.n
-		ref, _ := monotonicAt(m, epsEnd)
+		ref, _, err := monotonicAt(m, epsEnd)
+		if err != nil {
+			return c, CaseSetting{}, err
+		}
 		src := monotonicSource(m)
 		c.add(Check{
 			Name: "stress at the monotonic strain", Quantity: "stress at eps = " + fmtG(epsEnd),
@@ -104,7 +108,10 @@ func (v *verifier) monotonic(sign float64) caseFn {
 		})
 		worst := 0.0
 		for i := 1; i <= iEnd; i++ {
-			s, _ := monotonicAt(m, d.pts[i].eps)
+			s, _, err := monotonicAt(m, d.pts[i].eps)
+			if err != nil {
+				return c, CaseSetting{}, err
+			}
 			worst = math.Max(worst, math.Abs(d.pts[i].sigma-s))
 		}
 		c.add(Check{
@@ -134,7 +141,11 @@ func (v *verifier) monotonic(sign float64) caseFn {
 		}
 		addInvariants(&c, m, &d.inv)
 		c.Series = d.series()
-		c.Curves = []Curve{monotonicCurve(m, epsEnd, src)}
+		curve, err := monotonicCurve(m, epsEnd, src)
+		if err != nil {
+			return c, CaseSetting{}, err
+		}
+		c.Curves = []Curve{curve}
 		return c, CaseSetting{Case: name, Control: "strain", Increment: h, Increments: n}, nil
 	}
 }
@@ -171,12 +182,15 @@ func monotonicSource(m *plastic.Material) string {
 	return s
 }
 
-func monotonicCurve(m *plastic.Material, epsEnd float64, src string) Curve {
+func monotonicCurve(m *plastic.Material, epsEnd float64, src string) (Curve, error) {
 	c := Curve{Name: "closed form", Source: src, Points: make([][2]float64, 0, 101)}
 	for i := 0; i <= 100; i++ {
 		e := epsEnd * float64(i) / 100
-		s, _ := monotonicAt(m, e)
+		s, _, err := monotonicAt(m, e)
+		if err != nil {
+			return c, err
+		}
 		c.Points = append(c.Points, [2]float64{e, s})
 	}
-	return c
+	return c, nil
 }

@@ -138,7 +138,10 @@ func (v *verifier) pureShear(ctx context.Context, refine int) (Case, CaseSetting
 	// Closed form of the shear curve: with n = e_12 direction, dp =
 	// (2/sqrt(3)) d eps_p12 and each rule gives X_12 = alpha_i(p)/sqrt(3),
 	// so tau = sigma_mono(p)/sqrt(3) and gamma_12 = sqrt(3) p + tau/G.
-	pRef := bisect(func(p float64) float64 { return s3*p + monotonicStress(m, p)/(s3*G) - gEnd }, 0, gEnd)
+	pRef, err := findRoot(func(p float64) float64 { return s3*p + monotonicStress(m, p)/(s3*G) - gEnd }, 0, gEnd)
+	if err != nil {
+		return c, CaseSetting{}, err
+	}
 	tauRef := monotonicStress(m, pRef) / s3
 	c.add(Check{
 		Name: "shear stress at the end of loading", Quantity: fmt.Sprintf("tau_12 at gamma_12 = %.6g", gEnd),

@@ -2,6 +2,7 @@ package checks
 
 import (
 	"errors"
+	"fmt"
 	"math"
 
 	"matgate/checks/plastic"
@@ -42,54 +43,85 @@ func monotonicStress(m *plastic.Material, epsP float64) float64 {
 
 // monotonicAt returns the virgin tension stress and plastic strain at the
 // total strain eps (any sign; compression by symmetry, sigma(-eps) =
-// -sigma(eps)), solving eps = epsP + sigma(epsP)/E by bisection.
-func monotonicAt(m *plastic.Material, eps float64) (sigma, epsP float64) {
+// -sigma(eps)), solving eps = epsP + sigma(epsP)/E for epsP by findRoot.
+func monotonicAt(m *plastic.Material, eps float64) (sigma, epsP float64, err error) {
 	sgn := 1.0
 	if eps < 0 {
 		sgn, eps = -1, -eps
 	}
 	if eps*m.E <= m.SigmaY {
-		return sgn * m.E * eps, 0
+		return sgn * m.E * eps, 0, nil
 	}
 	g := func(x float64) float64 { return x + monotonicStress(m, x)/m.E - eps }
-	x := bisect(g, 0, eps)
-	return sgn * monotonicStress(m, x), sgn * x
+	x, err := findRoot(g, 0, eps)
+	if err != nil {
+		return 0, 0, fmt.Errorf("monotonic curve at strain %g: %w", sgn*eps, err)
+	}
+	return sgn * monotonicStress(m, x), sgn * x, nil
 }
 
-// bisect finds the root of an increasing g with g(lo) <= 0, doubling hi
-// until g(hi) >= 0, to the last bit: the bracket is shrunk until its ends
-// are adjacent floats (or g vanishes). The trial point is the regula falsi
-// point with the Illinois modification (the retained end's value halved
-// when the same end is kept twice), which converges superlinearly, and the
-// midpoint where that point leaves the bracket; either way every iteration
-// shrinks a bracket that always holds the root, as plain bisection does.
+// errNoBracket is wrapped when findRoot cannot bracket a root: g stays
+// negative up to the largest finite trial point, or turns NaN.
+var errNoBracket = errors.New("closed-form reference cannot be computed: no sign change of the equation")
+
+// findRoot returns the root of an increasing g with g(lo) <= 0, to the
+// last bit, or an error wrapping errNoBracket. The upper end of the
+// bracket starts at hi (lo + 1e-12 when hi <= lo) and, while g(hi) < 0,
+// moves up by a width that doubles every time (lo takes the old hi), so a
+// root at distance D from lo is bracketed after about log2(D/(hi - lo))
+// evaluations; the search ends with an error when the trial point is no
+// longer finite or g is NaN, never at a silent cap.
+//
+// The bracket is then shrunk until its ends are adjacent floats (or g
+// vanishes). The trial point is the regula falsi point with the Illinois
+// modification (the retained end's value halved when the same end is kept
+// twice), which converges superlinearly, and the midpoint where that point
+// leaves the bracket or where two trial points in a row failed to halve
+// the bracket; so the bracket halves at least every third iteration and
+// reaches adjacent floats within 3 x 2100 iterations from any finite
+// bracket (2^2100 > the ratio of the largest float64 to the smallest
+// subnormal). The iteration limit below is that count; reaching it is
+// reported as an error.
 //
 // References: M. Dowell and P. Jarratt, A modified regula falsi method for
 // computing the root of an equation, BIT 11, 1971 (the Illinois method).
-func bisect(g func(float64) float64, lo, hi float64) float64 {
+func findRoot(g func(float64) float64, lo, hi float64) (float64, error) {
 	if hi <= lo {
 		hi = lo + 1e-12
 	}
 	glo, ghi := g(lo), g(hi)
-	for i := 0; ghi < 0 && i < 200; i++ {
-		lo, glo, hi = hi, ghi, lo+2*(hi-lo)
+	if math.IsNaN(glo) || glo > 0 {
+		return 0, fmt.Errorf("%w: g(%g) = %g, want <= 0", errNoBracket, lo, glo)
+	}
+	for w := hi - lo; ghi < 0; {
+		w *= 2
+		lo, glo, hi = hi, ghi, hi+w
+		if math.IsInf(hi, 0) {
+			return 0, fmt.Errorf("%w: g is still negative (%g) at %g", errNoBracket, glo, lo)
+		}
 		ghi = g(hi)
 	}
-	side := 0
-	for i := 0; i < 400; i++ {
-		x := lo + (hi-lo)/2
-		if glo < 0 && ghi > 0 {
-			if rf := lo - glo*(hi-lo)/(ghi-glo); rf > lo && rf < hi {
+	if math.IsNaN(ghi) {
+		return 0, fmt.Errorf("%w: g(%g) is NaN", errNoBracket, hi)
+	}
+	side, stale := 0, 0
+	for i := 0; i < 3*2100; i++ {
+		w := hi - lo
+		x := lo + w/2
+		if stale < 2 && glo < 0 && ghi > 0 {
+			if rf := lo - glo*w/(ghi-glo); rf > lo && rf < hi {
 				x = rf
 			}
 		}
 		if x <= lo || x >= hi {
-			break
+			return x, nil
 		}
 		gx := g(x)
 		switch {
 		case gx == 0:
-			return x
+			return x, nil
+		case math.IsNaN(gx):
+			return 0, fmt.Errorf("%w: g(%g) is NaN", errNoBracket, x)
 		case gx < 0:
 			lo, glo = x, gx
 			if side < 0 {
@@ -103,8 +135,13 @@ func bisect(g func(float64) float64, lo, hi float64) float64 {
 			}
 			side = 1
 		}
+		if hi-lo > w/2 {
+			stale++
+		} else {
+			stale = 0
+		}
 	}
-	return lo + (hi-lo)/2
+	return 0, fmt.Errorf("closed-form reference: root finder did not reach adjacent floats in [%g, %g]", lo, hi)
 }
 
 // tip is a uniaxial state at the end of a branch, from the branch
@@ -179,19 +216,22 @@ func branchAt(m *plastic.Material, s *tip, n, dp float64) (out tip) {
 }
 
 // branchToStrain follows a monotone strain branch from s to eps.
-func branchToStrain(m *plastic.Material, s tip, eps float64) tip {
+func branchToStrain(m *plastic.Material, s tip, eps float64) (tip, error) {
 	sigTr := s.sigma + m.E*(eps-s.eps)
 	xi := sigTr - s.backStress(m.N)
 	if math.Abs(xi) <= m.YieldRadius(s.p) {
 		s.sigma, s.eps = sigTr, eps
-		return s
+		return s, nil
 	}
 	n := math.Copysign(1, xi)
 	g := func(dp float64) float64 { return n * (branchAt(m, &s, n, dp).eps - eps) }
-	dp := bisect(g, 0, math.Abs(eps-s.eps))
+	dp, err := findRoot(g, 0, math.Abs(eps-s.eps))
+	if err != nil {
+		return s, fmt.Errorf("branch solution from strain %g to %g: %w", s.eps, eps, err)
+	}
 	out := branchAt(m, &s, n, dp)
 	out.eps = eps
-	return out
+	return out, nil
 }
 
 // branchToStress follows a monotone stress branch from s to sigma.
@@ -207,7 +247,10 @@ func branchToStress(m *plastic.Material, s tip, sigma float64) (tip, error) {
 	}
 	n := math.Copysign(1, xi)
 	g := func(dp float64) float64 { return n * (branchAt(m, &s, n, dp).sigma - sigma) }
-	dp := bisect(g, 0, m.SigmaY/m.E)
+	dp, err := findRoot(g, 0, m.SigmaY/m.E)
+	if err != nil {
+		return s, fmt.Errorf("branch solution from stress %g to %g Pa: %w", s.sigma, sigma, err)
+	}
 	out := branchAt(m, &s, n, dp)
 	out.sigma = sigma
 	out.eps = out.epsP + sigma/m.E
@@ -251,9 +294,9 @@ func stabilizedRadius(m *plastic.Material) (float64, bool) {
 //	W = 2 k dEpsP + sum_AF 2 (C_i/gamma_i) (dEpsP - (2/gamma_i) tanh(gamma_i dEpsP/2))
 //
 // ok is false when the loop is elastic (epsA <= k/E).
-func stabilizedLoop(m *plastic.Material, k, epsA float64) (dEpsP, sigmaA, W float64, ok bool) {
+func stabilizedLoop(m *plastic.Material, k, epsA float64) (dEpsP, sigmaA, W float64, ok bool, err error) {
 	if epsA*m.E <= k {
-		return 0, 0, 0, false
+		return 0, 0, 0, false, nil
 	}
 	amp := func(x float64) float64 {
 		s := k
@@ -267,7 +310,10 @@ func stabilizedLoop(m *plastic.Material, k, epsA float64) (dEpsP, sigmaA, W floa
 		}
 		return s
 	}
-	dEpsP = bisect(func(x float64) float64 { return x + 2*amp(x)/m.E - 2*epsA }, 0, 2*epsA)
+	dEpsP, err = findRoot(func(x float64) float64 { return x + 2*amp(x)/m.E - 2*epsA }, 0, 2*epsA)
+	if err != nil {
+		return 0, 0, 0, false, fmt.Errorf("stabilized loop at strain amplitude %g: %w", epsA, err)
+	}
 	sigmaA = amp(dEpsP)
 	W = 2 * k * dEpsP
 	for i := 0; i < m.N; i++ {
@@ -275,7 +321,7 @@ func stabilizedLoop(m *plastic.Material, k, epsA float64) (dEpsP, sigmaA, W floa
 			W += 2 * t.C / t.Gamma * (dEpsP - 2/t.Gamma*math.Tanh(t.Gamma*dEpsP/2))
 		}
 	}
-	return dEpsP, sigmaA, W, true
+	return dEpsP, sigmaA, W, true, nil
 }
 
 // singleTermRatchet returns the ratchet strain per cycle of a card with one

@@ -14,21 +14,22 @@ type pt struct {
 	plastic                    bool
 }
 
-type histPt struct {
-	st      plastic.State1D
-	plastic bool
-}
-
 // invariants collects the per-increment invariants of a path.
 type invariants struct {
 	plasticSteps int
 	maxYield     float64 // max |f| / (sigmaY + R) after plastic increments
 	maxScale     float64 // max (|sigma| + |alpha| + k)/k, for the round-off bound
 	maxDEps      float64 // largest increment of strain (E dEps / k bounds the iteration residual)
-	minDiss      float64 // min dD/dp over plastic increments, Pa
-	minTangent   float64 // smallest consistent tangent on the path, Pa
-	diss         float64 // total dissipation, J/m^3
-	// elastic unloading: the first elastic increment after each reversal
+	minDiss      float64 // min dD/dp over plastic increments, Pa (3D paths)
+	// minDissRel is the min over plastic increments of dD / S, S the
+	// round-off scale of dD (see path1D.step), recorded by 1D paths.
+	minDissRel float64
+	// oneD: a 1D path (dissipation checked per increment through
+	// minDissRel, no slope check; see addInvariants).
+	oneD       bool
+	minTangent float64 // smallest consistent tangent on the path, Pa
+	// slopes of the first elastic increment after each reversal, recorded
+	// by 3D paths only (see addInvariants)
 	slopes []slope
 }
 
@@ -38,27 +39,24 @@ type slope struct {
 
 // path1D drives Step1D and records every state.
 type path1D struct {
-	ctx         context.Context
-	m           *plastic.Material
-	set         *plastic.Settings
-	dTol        float64 // driver tolerance, relative to sigmaY
-	st          plastic.State1D
-	pts         []pt
-	tips        []int // indices of the end points of the branches
-	inv         invariants
-	n           int // increments
-	lastTangent float64
+	ctx  context.Context
+	m    *plastic.Material
+	set  *plastic.Settings
+	dTol float64 // driver tolerance, relative to sigmaY
+	st   plastic.State1D
+	pts  []pt
+	tips []int // indices of the end points of the branches
+	inv  invariants
+	n    int // increments
 
-	keep bool     // append every state to hist
-	hist []histPt //
-
-	dir    float64 // sign of the current branch
-	unload bool    // waiting for the first increment of a new branch
+	dir float64 // sign of the current branch
 }
 
 func newPath1D(ctx context.Context, m *plastic.Material, set *plastic.Settings, dTol float64, capacity int) *path1D {
 	d := &path1D{ctx: ctx, m: m, set: set, dTol: dTol, pts: make([]pt, 1, capacity+1)}
 	d.inv.minDiss = math.Inf(1)
+	d.inv.minDissRel = math.Inf(1)
+	d.inv.oneD = true
 	d.inv.minTangent = math.Inf(1)
 	return d
 }
@@ -89,34 +87,31 @@ func (d *path1D) step(dEps float64) (plastic.StepInfo, error) {
 	d.inv.maxDEps = math.Max(d.inv.maxDEps, math.Abs(dEps))
 	if info.Plastic {
 		d.inv.plasticSteps++
-		// Yield1D and Dissipation1D, with R(p) = k - sigmaY evaluated once
-		// (the exponential of Voce's R is the cost of this bookkeeping).
+		// Yield1D, with R(p) = k - sigmaY evaluated once (the exponential
+		// of Voce's R is the cost of this bookkeeping).
 		d.inv.maxYield = math.Max(d.inv.maxYield, math.Abs(math.Abs(s.Sigma-alpha)-k)/k)
-		diss := (s.Sigma-alpha)*(s.EpsP-prev.EpsP) - (k-m.SigmaY)*info.DP
+		// The intrinsic dissipation of the increment (Dissipation1D, with
+		// the same R) and the round-off scale S of its
+		// terms: eps_p(n+1) - eps_p(n) errs by u |eps_p| of each end, which
+		// at a tiny dp (1e-18 is seen) dwarfs dp itself, and the products
+		// and the sum add a few u of each term's size.
+		dEpsP := s.EpsP - prev.EpsP
+		diss := (s.Sigma-alpha)*dEpsP - (k-m.SigmaY)*info.DP
+		scale := math.Abs(s.Sigma-alpha)*(math.Abs(s.EpsP)+math.Abs(prev.EpsP)) +
+			(math.Abs(s.Sigma)+math.Abs(alpha))*math.Abs(dEpsP) + math.Abs(k-m.SigmaY)*info.DP
 		for i := 0; i < m.N; i++ {
 			if t := m.Terms[i]; t.Gamma != 0 {
-				diss += t.Gamma / t.C * s.Alpha[i] * s.Alpha[i] * info.DP
+				a2 := t.Gamma / t.C * s.Alpha[i] * s.Alpha[i] * info.DP
+				diss += a2
+				scale += a2
 			}
 		}
-		d.inv.diss += diss
-		if info.DP > 0 {
-			d.inv.minDiss = math.Min(d.inv.minDiss, diss/info.DP)
+		if scale > 0 {
+			d.inv.minDissRel = math.Min(d.inv.minDissRel, diss/scale)
 		}
-	} else if d.unload && dEps != 0 {
-		// Hooke: the first elastic increment of a branch has slope E. The
-		// bound is the round-off of the two differences, 4u (|a|+|b|)/|b-a|
-		// each, times 2 for the division.
-		dS, dE := s.Sigma-prev.Sigma, s.Eps-prev.Eps
-		tol := 8*u*(math.Abs(s.Sigma)+math.Abs(prev.Sigma))/math.Abs(dS) + 8*u*(math.Abs(s.Eps)+math.Abs(prev.Eps))/math.Abs(dE)
-		d.inv.slopes = append(d.inv.slopes, slope{dS / dE, m.E, tol})
 	}
-	d.unload = false
 	d.record()
 	d.pts[len(d.pts)-1].plastic = info.Plastic
-	if d.keep {
-		d.hist = append(d.hist, histPt{d.st, info.Plastic})
-	}
-	d.lastTangent = info.Tangent
 	d.inv.minTangent = math.Min(d.inv.minTangent, info.Tangent)
 	return info, nil
 }
@@ -124,7 +119,6 @@ func (d *path1D) step(dEps float64) (plastic.StepInfo, error) {
 func (d *path1D) turn(dir float64) {
 	if d.dir != 0 && dir != d.dir {
 		d.tips = append(d.tips, len(d.pts)-1)
-		d.unload = true
 	}
 	d.dir = dir
 }
@@ -251,13 +245,16 @@ func (d *path1D) series() []Sample {
 }
 
 // trapezoid returns the integral of sigma d eps over pts[i:j+1] with
-// every point and with every second point (j - i even).
-func trapezoid(pts []pt, i, j int) (w1, w2 float64) {
+// every point and with every second point (j - i even), and the sum of the
+// absolute values of the terms of the first (the scale of its round-off).
+func trapezoid(pts []pt, i, j int) (w1, w2, abs float64) {
 	for k := i; k < j; k++ {
-		w1 += (pts[k].sigma + pts[k+1].sigma) / 2 * (pts[k+1].eps - pts[k].eps)
+		x := (pts[k].sigma + pts[k+1].sigma) / 2 * (pts[k+1].eps - pts[k].eps)
+		w1 += x
+		abs += math.Abs(x)
 	}
 	for k := i; k+2 <= j; k += 2 {
 		w2 += (pts[k].sigma + pts[k+2].sigma) / 2 * (pts[k+2].eps - pts[k].eps)
 	}
-	return w1, w2
+	return w1, w2, abs
 }

@@ -66,8 +66,6 @@ type Case struct {
 	// run its first and last 200 increments (see downsample).
 	Series []Sample `json:"series"`
 	Curves []Curve  `json:"curves,omitempty"`
-
-	tracked []tracked // quantities compared by the convergence rerun only
 }
 
 // Check is one comparison.
@@ -126,13 +124,6 @@ type Curve struct {
 	Name   string       `json:"name"`
 	Source string       `json:"source"`
 	Points [][2]float64 `json:"points"`
-}
-
-type tracked struct {
-	name         string
-	value        float64
-	tol          float64 // absolute
-	toleranceWhy string
 }
 
 // Errors of Run. A failed check is not an error.
