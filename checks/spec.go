@@ -16,15 +16,17 @@ type Spec struct {
 	// Profile is "standard" or "strict". Empty: "standard".
 	Profile string
 
-	// MonotonicStrain is the strain of the monotonic cases. Zero: 20 times
-	// the yield strain sigmaY/E (far enough into the plastic range that the
-	// monotonic curve shows every hardening term).
+	// MonotonicStrain is the strain of the monotonic cases, at most
+	// MaxStrain. Zero: 20 times the yield strain sigmaY/E (far enough into
+	// the plastic range that the monotonic curve shows every hardening
+	// term), at least min(0.01, 1000 sigmaY/E) and at most MaxStrain.
 	MonotonicStrain float64
 
 	// StrainAmplitudes are the amplitudes of the fully reversed (strain
-	// ratio -1) cycling cases. Empty: 2 and 4 times the yield strain (a
-	// loop with a plastic strain range of about twice the yield strain and
-	// one of about six times).
+	// ratio -1) cycling cases, each at most MaxStrain. Empty: 2 and 4 times
+	// the yield strain (a loop with a plastic strain range of about twice
+	// the yield strain and one of about six times), at most MaxStrain/4
+	// and MaxStrain/2.
 	StrainAmplitudes []float64
 
 	// Cycles is the number of cycles of the fully reversed cases. Zero:
@@ -41,7 +43,7 @@ type Spec struct {
 	// Relaxation is the mean-strain relaxation case. Nil: mean strain and
 	// strain amplitude both the first of StrainAmplitudes (a cycle from 0 to
 	// twice it, so the loop is that of the first fully reversed case moved
-	// by its amplitude), Cycles cycles.
+	// by its amplitude), at most MaxStrain/2 each, Cycles cycles.
 	Relaxation *Relaxation
 
 	// References are the card's recorded uniaxial curves.
@@ -93,6 +95,27 @@ const (
 	DefaultMeasuredTol = 0.05
 )
 
+// Sizing limits of every case; convert.MaxStrain and convert.MaxPathYields
+// are the same numbers (convert.TestSizingInStepWithChecks).
+const (
+	// MaxStrain bounds |strain| everywhere on a case's path, the
+	// accumulated ratchet strain included: the reference integrator is
+	// small-strain (strain = symmetric displacement gradient, Cauchy stress
+	// = nominal stress), which engineering practice accepts to a few
+	// percent; 10 % is the usual outer limit (common practice, no source).
+	MaxStrain = 0.1
+	// MaxPathYields bounds the work of a case: the length of its path in
+	// yield strains sigmaY/E (strain control) or yield stresses sigmaY
+	// (stress control), counted where the case resolves it at the
+	// profile's increments (the middle cycles of the strain-controlled
+	// cycling cases run at two increments a branch and count 4 increments
+	// a cycle instead; see caseWork). At the strict profile's 40
+	// increments a yield strain it is 200,000 increments a run (the
+	// half-increment rerun twice that); measured in BenchmarkSizingLimit.
+	// Our choice, no source: 250 times the work of the default cases.
+	MaxPathYields = 5000
+)
+
 // ErrInvalidSpec is wrapped by every *SpecError.
 var ErrInvalidSpec = errors.New("checks: invalid spec")
 
@@ -127,19 +150,32 @@ func (s Spec) Resolve() (Spec, error) {
 		return bad("Profile", 0, fmt.Sprintf("unknown profile %q (want standard or strict)", s.Profile))
 	}
 	if s.MonotonicStrain == 0 {
-		s.MonotonicStrain = 20 * epsY
+		s.MonotonicStrain = math.Min(MaxStrain, math.Max(math.Min(0.01, 1000*epsY), 20*epsY))
 	}
-	if !finite(s.MonotonicStrain) || s.MonotonicStrain <= epsY {
-		return bad("MonotonicStrain", s.MonotonicStrain, fmt.Sprintf("must exceed the yield strain %g", epsY))
+	work := func(f string, v, path float64) error {
+		if path > MaxPathYields {
+			return &SpecError{f, v, fmt.Sprintf("the case would run a path of %.4g yield strains (or stresses), above the budget of %d (MaxPathYields)", path, MaxPathYields)}
+		}
+		return nil
+	}
+	if !finite(s.MonotonicStrain) || s.MonotonicStrain <= epsY || s.MonotonicStrain > MaxStrain {
+		return bad("MonotonicStrain", s.MonotonicStrain, fmt.Sprintf("must exceed the yield strain %g and stay within the small-strain limit %g", epsY, MaxStrain))
+	}
+	if err := work("MonotonicStrain", s.MonotonicStrain, s.MonotonicStrain/epsY); err != nil {
+		return s, err
 	}
 	if len(s.StrainAmplitudes) == 0 {
-		s.StrainAmplitudes = []float64{2 * epsY, 4 * epsY}
+		s.StrainAmplitudes = []float64{math.Min(2*epsY, MaxStrain/4), math.Min(4*epsY, MaxStrain/2)}
 	} else {
 		s.StrainAmplitudes = append([]float64(nil), s.StrainAmplitudes...)
 	}
 	for i, a := range s.StrainAmplitudes {
-		if !finite(a) || a <= 0 || a > 1 {
-			return bad(fmt.Sprintf("StrainAmplitudes[%d]", i), a, "must be in (0, 1]")
+		f := fmt.Sprintf("StrainAmplitudes[%d]", i)
+		if !finite(a) || a <= 0 || a > MaxStrain {
+			return bad(f, a, fmt.Sprintf("must be in (0, %g], the small-strain limit", MaxStrain))
+		}
+		if err := work(f, a, cyclicWork(a, a)/epsY); err != nil {
+			return s, err
 		}
 	}
 	if s.Cycles == 0 {
@@ -149,7 +185,7 @@ func (s Spec) Resolve() (Spec, error) {
 		return bad("Cycles", float64(s.Cycles), "must be in [2, 10000]")
 	}
 	if s.Relaxation == nil {
-		a := s.StrainAmplitudes[0]
+		a := math.Min(s.StrainAmplitudes[0], MaxStrain/2)
 		s.Relaxation = &Relaxation{MeanStrain: a, StrainAmplitude: a}
 	} else {
 		r := *s.Relaxation
@@ -158,8 +194,10 @@ func (s Spec) Resolve() (Spec, error) {
 	if s.Relaxation.Cycles == 0 {
 		s.Relaxation.Cycles = s.Cycles
 	}
-	if r := s.Relaxation; !finite(r.MeanStrain) || !finite(r.StrainAmplitude) || r.StrainAmplitude <= 0 || math.Abs(r.MeanStrain)+r.StrainAmplitude > 1 || r.Cycles < 2 || r.Cycles > 10000 {
-		return bad("Relaxation", r.StrainAmplitude, "needs amplitude > 0, |mean|+amplitude <= 1 and 2..10000 cycles")
+	if r := s.Relaxation; !finite(r.MeanStrain) || !finite(r.StrainAmplitude) || r.StrainAmplitude <= 0 || math.Abs(r.MeanStrain)+r.StrainAmplitude > MaxStrain || r.Cycles < 2 || r.Cycles > 10000 {
+		return bad("Relaxation", r.StrainAmplitude, fmt.Sprintf("needs amplitude > 0, |mean| + amplitude <= %g (the small-strain limit) and 2..10000 cycles", MaxStrain))
+	} else if err := work("Relaxation", r.StrainAmplitude, cyclicWork(math.Abs(r.MeanStrain)+r.StrainAmplitude, r.StrainAmplitude)/epsY); err != nil {
+		return s, err
 	}
 	if s.Ratcheting != nil {
 		r := *s.Ratcheting
@@ -174,6 +212,12 @@ func (s Spec) Resolve() (Spec, error) {
 			return bad("Ratcheting.MeanStress", r.MeanStress, fmt.Sprintf("the peak stress |mean|+amplitude must stay below the saturation stress %g Pa", sat))
 		case r.Cycles < 2 || r.Cycles > 10000:
 			return bad("Ratcheting.Cycles", float64(r.Cycles), "must be in [2, 10000]")
+		}
+		if err := work("Ratcheting.Cycles", float64(r.Cycles), ratchetWork(r.MeanStress, r.StressAmplitude, r.Cycles)/m.SigmaY); err != nil {
+			return s, err
+		}
+		if peak, err := ratchetPeakStrain(m, r); err == nil && peak > MaxStrain {
+			return bad("Ratcheting.MeanStress", r.MeanStress, fmt.Sprintf("the ratcheting path reaches a strain of %.4g after %d cycles (branch solutions), beyond the small-strain limit %g: lower the mean stress, the amplitude or the cycles", peak, r.Cycles, MaxStrain))
 		}
 		s.Ratcheting = &r
 	}
@@ -193,6 +237,7 @@ func (s Spec) Resolve() (Spec, error) {
 		case r.Tol < 0 || !finite(r.Tol):
 			return bad(f+".Tol", r.Tol, "must be >= 0")
 		}
+		path := 0.0
 		for j, p := range r.Points {
 			if !finite(p[0]) || !finite(p[1]) {
 				return bad(fmt.Sprintf("%s.Points[%d]", f, j), p[0]+p[1], "not finite")
@@ -200,6 +245,12 @@ func (s Spec) Resolve() (Spec, error) {
 			if r.Control == "stress" && math.Abs(p[1]) >= m.SaturationStress() {
 				return bad(fmt.Sprintf("%s.Points[%d]", f, j), p[1], "stress beyond the saturation stress")
 			}
+			if j > 0 {
+				path += referenceStep(r.Points[j-1], p, r.Control == "stress", epsY, m.SigmaY)
+			}
+		}
+		if err := work(f+".Points", float64(len(r.Points)), path); err != nil {
+			return s, err
 		}
 		if r.Tol == 0 {
 			r.Tol = DefaultSolverTol
@@ -215,6 +266,48 @@ func (s Spec) Resolve() (Spec, error) {
 	return s, nil
 }
 
+// Work of the cases in yield strains (or yield stresses), the rule of
+// MaxPathYields; convert/sizing.go applies the same.
+
+// cyclicWork is the strain path that a strain-cycling case with the
+// largest strain eMax and the amplitude amp resolves at the profile's
+// increments: the first loading to eMax and three cycles of 4 amp (the
+// first and the last two; see cycleIncrement).
+func cyclicWork(eMax, amp float64) float64 { return eMax + 12*amp }
+
+// ratchetWork is the stress path of the ratcheting case, every cycle
+// resolved: the first loading to the peak, then 4 amplitudes a cycle.
+func ratchetWork(mean, amp float64, cycles int) float64 {
+	return math.Abs(mean) + amp + 4*amp*float64(cycles)
+}
+
+// referenceStep is the path between two points of a reference curve, in
+// yield strains under strain control and yield stresses under stress
+// control.
+func referenceStep(a, b [2]float64, stress bool, epsY, sigmaY float64) float64 {
+	if stress {
+		return math.Abs(b[1]-a[1]) / sigmaY
+	}
+	return math.Abs(b[0]-a[0]) / epsY
+}
+
+// ratchetPeakStrain returns the largest |strain| of the ratcheting path
+// from the branch solutions, tip to tip: under stress control the strain
+// is monotone on each branch, so the largest strain is at a tip.
+func ratchetPeakStrain(m *plastic.Material, r Ratcheting) (float64, error) {
+	sMax, sMin := r.MeanStress+r.StressAmplitude, r.MeanStress-r.StressAmplitude
+	var t tip
+	peak := 0.0
+	for _, x := range cycleTargets(sMax, sMin, sMax, r.Cycles) {
+		var err error
+		if t, err = branchToStress(m, t, x); err != nil {
+			return 0, err
+		}
+		peak = math.Max(peak, math.Abs(t.eps))
+	}
+	return peak, nil
+}
+
 // defaultCycles returns the number of fully reversed cycles after which the
 // slowest transient of the card has decayed to 1e-3 of its initial size at
 // the strain amplitude epsA, clamped to [10, 200].
@@ -224,10 +317,9 @@ func (s Spec) Resolve() (Spec, error) {
 // branchAlpha), so by rho = exp(-2 gamma dEpsP) per cycle; Voce's R(p)
 // approaches Q by exp(-b dp), rho = exp(-2 b dEpsP). dEpsP is the
 // stabilized plastic strain range estimated as 2 (epsA - epsY), epsY the
-// yield strain; N = ln(1e-3) / ln(rho). At 1e-3 the memory bound of the
-// stabilized-loop checks (see memory) is a few tenths of a percent of the
-// stress amplitude for the demo cards, well inside the 1% that applies
-// them; a longer run buys little and costs linearly. Linear terms stabilize in one
+// yield strain; N = ln(1e-3) / ln(rho). The stabilized-loop checks
+// measure what transient remains (transientTail) and apply only below 1%;
+// a longer run buys little and costs linearly. Linear terms stabilize in one
 // cycle; linear isotropic hardening never does (10 cycles).
 func defaultCycles(m *plastic.Material, epsA float64) int {
 	dEpsP := 2 * (epsA - m.SigmaY/m.E)

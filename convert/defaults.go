@@ -28,24 +28,23 @@ const (
 
 // Defaults returns the verification block that Normalize writes for a card
 // that gives none; c must be in SI units (E, yield stress, C, Q in Pa).
+// Every default case stays within MaxStrain and MaxPathYields (sizing.go).
 //
-//   - monotonic_strain: 20 eps_y, kept within [0.01, 0.5];
-//   - strain_amplitudes: 2 eps_y and 4 eps_y (at most 0.2): both reverse
-//     yield, since a fully reversed cycle yields again once the strain range
+//   - monotonic_strain: 20 eps_y, at least min(0.01, 1000 eps_y) and at
+//     most MaxStrain;
+//   - strain_amplitudes: 2 eps_y and 4 eps_y (at most MaxStrain/4 and
+//     MaxStrain/2, so the mean-strain relaxation case, which cycles from 0
+//     to twice the first, stays within MaxStrain): both reverse yield,
+//     since a fully reversed cycle yields again once the strain range
 //     exceeds 2 eps_y; plastic strain ranges of about 2 and 6 eps_y;
 //   - cycles: see defaultCycles;
-//   - ratcheting: for bounded hardening with kinematic capacity
-//     A = sum C_i/gamma_i + min(Q, 0) > 0, stress_amplitude yield_stress +
-//     0.4 A and mean_stress 0.3 A, so the peak stress yield_stress + 0.7 A
-//     stays below saturation and both branches of every cycle are plastic;
-//     for unbounded (linear) hardening 1.2 and 0.2 yield_stress; none when
-//     the card has no kinematic hardening (nothing can ratchet).
+//   - ratcheting: see defaultRatcheting.
 func Defaults(c *schema.Card) schema.Verification {
 	epsY := c.Plasticity.YieldStress / c.Elastic.YoungsModulus
 	v := schema.Verification{
 		Profile:          schema.ProfileStandard,
-		MonotonicStrain:  ptr(roundTo(math.Min(0.5, math.Max(0.01, 20*epsY)), 3)),
-		StrainAmplitudes: []float64{roundTo(math.Min(0.2, 2*epsY), 3), roundTo(math.Min(0.2, 4*epsY), 3)},
+		MonotonicStrain:  ptr(roundTo(math.Min(MaxStrain, math.Max(math.Min(0.01, 1000*epsY), 20*epsY)), 3)),
+		StrainAmplitudes: []float64{roundTo(math.Min(MaxStrain/4, 2*epsY), 3), roundTo(math.Min(MaxStrain/2, 4*epsY), 3)},
 		Ratcheting:       defaultRatcheting(c),
 	}
 	v.Cycles = ptr(defaultCycles(c, v.StrainAmplitudes[0]))
@@ -85,6 +84,19 @@ func defaultCycles(c *schema.Card, epsA float64) int {
 	return int(math.Max(10, math.Min(200, n)))
 }
 
+// defaultRatcheting returns the default ratcheting load of the SI card c:
+// for bounded hardening with kinematic capacity A = sum C_i/gamma_i +
+// min(Q, 0) > 0, stress_amplitude yield_stress + 0.4 A lambda and
+// mean_stress 0.3 A lambda, so the peak stress stays below saturation and
+// both branches of every cycle are plastic; for unbounded (linear)
+// hardening yield_stress (1 + 0.2 lambda) and 0.2 lambda yield_stress;
+// DefaultRatchetCycles cycles. lambda is the largest of 1, 1/2, 1/4, ...,
+// 2^-10 whose load (rounded to 4 digits) keeps the whole path within
+// MaxStrain and MaxPathYields (ratchetFits): near saturation a stress
+// cycle ratchets by whole strains per cycle (12 to 83 after 20 cycles were
+// seen at lambda = 1). None when the card has no kinematic hardening
+// (nothing can ratchet), when its parameters make no material, or when no
+// lambda fits.
 func defaultRatcheting(c *schema.Card) *schema.Ratcheting {
 	sy := c.Plasticity.YieldStress
 	capacity, linear := 0.0, false
@@ -96,16 +108,27 @@ func defaultRatcheting(c *schema.Card) *schema.Ratcheting {
 			capacity += *t.C / *t.Gamma
 		}
 	}
-	if linear {
-		return &schema.Ratcheting{MeanStress: roundTo(0.2*sy, 4), StressAmplitude: roundTo(1.2*sy, 4), Cycles: DefaultRatchetCycles}
-	}
-	if iso := c.Plasticity.Isotropic; iso != nil && iso.Q != nil {
+	if iso := c.Plasticity.Isotropic; !linear && iso != nil && iso.Q != nil {
 		capacity += math.Min(*iso.Q, 0)
 	}
-	if capacity <= 0 {
+	if !linear && capacity <= 0 {
 		return nil
 	}
-	return &schema.Ratcheting{MeanStress: roundTo(0.3*capacity, 4), StressAmplitude: roundTo(sy+0.4*capacity, 4), Cycles: DefaultRatchetCycles}
+	m, err := Material(c)
+	if err != nil {
+		return nil
+	}
+	for j := 0; j <= 10; j++ {
+		lam := math.Ldexp(1, -j)
+		r := &schema.Ratcheting{MeanStress: roundTo(0.3*capacity*lam, 4), StressAmplitude: roundTo(sy+0.4*capacity*lam, 4), Cycles: DefaultRatchetCycles}
+		if linear {
+			r.MeanStress, r.StressAmplitude = roundTo(0.2*sy*lam, 4), roundTo(sy*(1+0.2*lam), 4)
+		}
+		if ratchetFits(&m, r) {
+			return r
+		}
+	}
+	return nil
 }
 
 // verificationDefaults merges the card's verification block (in its stress

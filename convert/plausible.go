@@ -141,7 +141,7 @@ func Prepare(doc *schema.Document, opts *Options) (*schema.Card, schema.Diagnost
 		}
 		return nil, sortDiags(append(ds, doc.Diag(schema.SeverityError, "", "%v", err)))
 	}
-	ds = append(ds, checkStated(doc, n)...)
+	ds = append(append(ds, checkStated(doc, n)...), Sizing(doc, n)...)
 	if _, err := Material(n); err != nil {
 		ds = append(ds, doc.Diag(schema.SeverityError, "/plasticity", "the integrator cannot use these parameters: %v", err))
 	}
