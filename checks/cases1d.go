@@ -20,6 +20,20 @@ type verifier struct {
 	hSig float64 // stress increment, Pa
 
 	tipCache map[string][]tip // branch-solution references by case (they do not depend on the increment)
+
+	// step integrates the 1D cases' increments; nil: v.m.Step1D. Tests
+	// put a wrong model here to show that the checks fail it.
+	step stepFn
+}
+
+// newPath returns a 1D path of the card for a case that records up to
+// capacity increments, integrated by v.step.
+func (v *verifier) newPath(ctx context.Context, capacity int) *path1D {
+	d := newPath1D(ctx, v.m, v.set, v.prof.driverTol, capacity)
+	if v.step != nil {
+		d.step1D = v.step
+	}
+	return d
 }
 
 // tipsOf returns the branch-solution tips from the virgin state through the
@@ -86,7 +100,7 @@ func (v *verifier) monotonic(sign float64) caseFn {
 		epsEnd := sign * v.spec.MonotonicStrain
 		h := v.hEps / float64(refine)
 		c := Case{Name: name, Kind: kind, Loading: fmt.Sprintf("strain control from the virgin state to %s in increments of at most %.4g, then unloading by (sigmaY + R)/E", fmtG(epsEnd), h)}
-		d := newPath1D(ctx, m, v.set, v.prof.driverTol, int(math.Abs(epsEnd)/h)+64)
+		d := v.newPath(ctx, int(math.Abs(epsEnd)/h)+64)
 		if err := d.strainTo(epsEnd, h, 1); err != nil {
 			return c, CaseSetting{}, err
 		}
@@ -122,7 +136,7 @@ func (v *verifier) monotonic(sign float64) caseFn {
 		if sign < 0 {
 			// Tension/compression symmetry: the same path in tension, point
 			// by point.
-			t := newPath1D(ctx, m, v.set, v.prof.driverTol, len(d.pts))
+			t := v.newPath(ctx, len(d.pts))
 			if err := t.strainTo(-epsEnd, h, 1); err != nil {
 				return c, CaseSetting{}, err
 			}

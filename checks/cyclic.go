@@ -23,6 +23,16 @@ func (v *verifier) cycleIncrement(k, N int, h, span float64) (float64, int) {
 	return h, v.prof.incPerBranch
 }
 
+// cyclingCapacity is the number of increments of a strain-cycling case
+// with the largest strain eMax, the amplitude amp, the increment h and N
+// cycles, at most (see cycleIncrement): the first loading, three cycles
+// resolved at h (at least incPerBranch a branch, rounded up to even), and
+// 4 increments for each cycle between.
+func (v *verifier) cyclingCapacity(eMax, amp, h float64, N int) int {
+	branch := int(2*amp/h) + 2 + v.prof.incPerBranch
+	return int(eMax/h) + 2 + v.prof.incPerBranch + 6*branch + 4*N
+}
+
 // cyclic is fully reversed strain cycling (strain ratio -1) at amplitude
 // a: loading from the virgin state to +a, then Cycles cycles +a -> -a -> +a.
 func (v *verifier) cyclic(a float64) caseFn {
@@ -32,7 +42,7 @@ func (v *verifier) cyclic(a float64) caseFn {
 		name := "cyclic-" + fmtG(a)
 		h := math.Min(v.hEps, 2*a/float64(v.prof.incPerBranch)) / float64(refine)
 		c := Case{Name: name, Kind: "fully-reversed", Loading: fmt.Sprintf("strain control, strain ratio -1: from the virgin state to %s, then %d cycles between %s and -%s, increments of at most %.4g (even per branch) in the first and the last two cycles and two per branch between them (exact algorithm)", fmtG(a), N, fmtG(a), fmtG(a), h)}
-		d := newPath1D(ctx, m, v.set, v.prof.driverTol, (4*N+1)*int(a/h+2))
+		d := v.newPath(ctx, v.cyclingCapacity(a, a, h, N))
 		// The reference: branch solutions tip to tip.
 		tips, err := v.tipsOf(name, true, cycleTargets(a, -a, a, N))
 		if err != nil {

@@ -37,23 +37,27 @@ type slope struct {
 	value, ref, tol float64
 }
 
+// stepFn integrates one 1D strain increment, as plastic.Material.Step1D.
+type stepFn func(dst, src *plastic.State1D, dEps float64, set *plastic.Settings) (plastic.StepInfo, error)
+
 // path1D drives Step1D and records every state.
 type path1D struct {
-	ctx  context.Context
-	m    *plastic.Material
-	set  *plastic.Settings
-	dTol float64 // driver tolerance, relative to sigmaY
-	st   plastic.State1D
-	pts  []pt
-	tips []int // indices of the end points of the branches
-	inv  invariants
-	n    int // increments
+	ctx    context.Context
+	m      *plastic.Material
+	step1D stepFn // m.Step1D unless a test replaces it (verifier.step)
+	set    *plastic.Settings
+	dTol   float64 // driver tolerance, relative to sigmaY
+	st     plastic.State1D
+	pts    []pt
+	tips   []int // indices of the end points of the branches
+	inv    invariants
+	n      int // increments
 
 	dir float64 // sign of the current branch
 }
 
 func newPath1D(ctx context.Context, m *plastic.Material, set *plastic.Settings, dTol float64, capacity int) *path1D {
-	d := &path1D{ctx: ctx, m: m, set: set, dTol: dTol, pts: make([]pt, 1, capacity+1)}
+	d := &path1D{ctx: ctx, m: m, step1D: m.Step1D, set: set, dTol: dTol, pts: make([]pt, 1, capacity+1)}
 	d.inv.minDiss = math.Inf(1)
 	d.inv.minDissRel = math.Inf(1)
 	d.inv.oneD = true
@@ -75,7 +79,7 @@ func (d *path1D) step(dEps float64) (plastic.StepInfo, error) {
 	}
 	m := d.m
 	prev := d.st
-	info, err := m.Step1D(&d.st, &prev, dEps, d.set)
+	info, err := d.step1D(&d.st, &prev, dEps, d.set)
 	if err != nil {
 		return info, fmt.Errorf("increment %d at strain %g: %w", d.n, prev.Eps, err)
 	}
@@ -186,7 +190,7 @@ func (d *path1D) solveStress(sig, tol float64) (float64, error) {
 	x := (sig - d.st.Sigma) / m.E
 	lo, hi := math.Inf(-1), math.Inf(1)
 	for it := 0; it < 100; it++ {
-		info, err := m.Step1D(&trial, &d.st, x, d.set)
+		info, err := d.step1D(&trial, &d.st, x, d.set)
 		if err != nil {
 			return 0, fmt.Errorf("stress target %g Pa at strain %g: %w", sig, d.st.Eps, err)
 		}

@@ -108,7 +108,7 @@ func roundBasis(n int) string {
 // modes' signs and rates are inferred): changes that are not a monotone
 // decay are refused, not guessed.
 func transientTail(q []float64, floor, rhoModel float64) (tail float64, why string) {
-	const last = 4
+	const last = 6
 	if len(q) < last+1 {
 		return 0, fmt.Sprintf("%d cycles are too few to measure the decay of the transient (at least %d)", len(q), last+1)
 	}
@@ -122,12 +122,19 @@ func transientTail(q []float64, floor, rhoModel float64) (tail float64, why stri
 	if small {
 		return floor, ""
 	}
-	rho := rhoModel
+	rho, prev, prevNoise := rhoModel, 0.0, 0.0
 	for j := 1; j < last; j++ {
 		if d[j]*d[j-1] <= 0 || math.Abs(d[j]) >= math.Abs(d[j-1]) {
-			return 0, fmt.Sprintf("the cycle-to-cycle changes of the last %d cycles (%.3g, %.3g, %.3g, %.3g) are not a monotone decay, so the remaining transient cannot be estimated", last, d[0], d[1], d[2], d[3])
+			return 0, fmt.Sprintf("the cycle-to-cycle changes of the last %d cycles (%.3g) are not a monotone decay, so the remaining transient cannot be estimated", last, d)
 		}
-		rho = math.Max(rho, math.Abs(d[j]/d[j-1]))
+		ratio := d[j] / d[j-1]
+		// Relative round-off of the ratio: floor over each change.
+		noise := ratio * (floor/math.Abs(d[j]) + floor/math.Abs(d[j-1]))
+		if j > 1 && ratio < prev*(1-ratioDrop)-noise-prevNoise {
+			return 0, fmt.Sprintf("the decay of the last %d cycle-to-cycle changes (%.3g) accelerates: a slower part of the opposite sign may remain, so the remaining transient cannot be estimated", last, d)
+		}
+		prev, prevNoise = ratio, noise
+		rho = math.Max(rho, ratio)
 	}
 	r := (1 + rho) / 2
 	return math.Abs(d[last-1])*r/(1-r) + floor, ""
@@ -168,8 +175,17 @@ func slowestDecay(m *plastic.Material, dEpsP float64) float64 {
 	return rho
 }
 
+// ratioDrop is the largest relative fall of the ratio of successive
+// cycle-to-cycle changes that transientTail accepts. A slow mode of the
+// opposite sign whose changes are a fraction x of the fast mode's lowers
+// the ratio by about x (s - f)/s a cycle (rates s > f) and defeats the
+// estimate from about x = 2/3; 1e-3 refuses it unless the two rates are
+// within 0.15 % of each other, when the two modes decay alike. Our
+// choice, derived here.
+const ratioDrop = 1e-3
+
 // tailBasis says how transientTail estimates, for ToleranceBasis.
-const tailBasis = "from the exact solution's cycle-to-cycle changes d_k over the last 4 cycles (branch solutions tip to tip): one sign and decreasing; rate r = (1 + max(largest observed ratio, slowest decay the card's rates predict))/2 (margin, our choice, no source); remainder |d_N| r/(1 - r) + round-off floor; derived here"
+const tailBasis = "from the exact solution's cycle-to-cycle changes d_k over the last 6 cycles (branch solutions tip to tip): one sign, decreasing, ratios falling by at most 1e-3 a cycle; rate r = (1 + max(largest observed ratio, slowest decay the card's rates predict))/2 (margin, our choice, no source); remainder |d_N| r/(1 - r) + round-off floor; derived here"
 
 // tailFloor is the round-off of a per-cycle value of the branch solutions,
 // relative to its size: each is a closed form evaluated with a root found

@@ -15,7 +15,7 @@ func (v *verifier) ratcheting(ctx context.Context, refine int) (Case, CaseSettin
 	sMax, sMin := r.MeanStress+r.StressAmplitude, r.MeanStress-r.StressAmplitude
 	h := v.hSig / float64(refine)
 	c := Case{Name: "ratcheting", Kind: "stress-controlled-ratcheting", Loading: fmt.Sprintf("stress control from the virgin state to %.6g Pa, then %d cycles between %.6g and %.6g Pa (mean %.6g, amplitude %.6g), increments of at most %.4g Pa", sMax, N, sMax, sMin, r.MeanStress, r.StressAmplitude, h)}
-	d := newPath1D(ctx, m, v.set, v.prof.driverTol, (2*N+1)*int(2*r.StressAmplitude/h+2))
+	d := v.newPath(ctx, (2*N+1)*int(2*r.StressAmplitude/h+2))
 	tips, err := v.tipsOf(c.Name, false, cycleTargets(sMax, sMin, sMax, N))
 	if err != nil {
 		return c, CaseSetting{}, err
@@ -90,7 +90,7 @@ func (v *verifier) relaxation(ctx context.Context, refine int) (Case, CaseSettin
 	eMax, eMin := r.MeanStrain+r.StrainAmplitude, r.MeanStrain-r.StrainAmplitude
 	h := math.Min(v.hEps, 2*r.StrainAmplitude/float64(v.prof.incPerBranch)) / float64(refine)
 	c := Case{Name: "mean-strain-relaxation", Kind: "mean-stress-relaxation", Loading: fmt.Sprintf("strain control from the virgin state to %s, then %d cycles between %s and %s (mean strain %s), increments of at most %.4g in the first and the last two cycles and two per branch between them (exact algorithm)", fmtG(eMax), N, fmtG(eMax), fmtG(eMin), fmtG(r.MeanStrain), h)}
-	d := newPath1D(ctx, m, v.set, v.prof.driverTol, (2*N+1)*int(2*r.StrainAmplitude/h+2))
+	d := v.newPath(ctx, v.cyclingCapacity(eMax, r.StrainAmplitude, h, N))
 	tips, err := v.tipsOf(c.Name, true, cycleTargets(eMax, eMin, eMax, N))
 	if err != nil {
 		return c, CaseSetting{}, err

@@ -20,7 +20,11 @@ func Run(ctx context.Context, spec Spec) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
-	v := newVerifier(spec)
+	return newVerifier(spec).run(ctx)
+}
+
+// run runs every case of the resolved spec of v.
+func (v *verifier) run(ctx context.Context) (*Result, error) {
 	res := &Result{Settings: v.settings()}
 	for _, cs := range v.cases() {
 		if cs.skip != "" {

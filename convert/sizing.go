@@ -40,9 +40,13 @@ func Sizing(doc *schema.Document, n *schema.Card) schema.Diagnostics {
 		ds = append(ds, doc.Diag(schema.SeverityError, pointer, format, args...))
 	}
 	epsY := n.Plasticity.YieldStress / n.Elastic.YoungsModulus
-	overWork := func(pointer, what string, path float64) {
+	overWork := func(pointer, what string, path float64, stress bool) {
 		if path > MaxPathYields {
-			add(pointer, "%s runs a path of %.4g yield strains (or stresses), above the budget of %d a case: shorten it", what, path, MaxPathYields)
+			in := "yield strains"
+			if stress {
+				in = "yield stresses"
+			}
+			add(pointer, "%s runs a path of %.4g %s, above the budget of %d a case: shorten it", what, path, in, MaxPathYields)
 		}
 	}
 	if given.MonotonicStrain != nil {
@@ -50,7 +54,7 @@ func Sizing(doc *schema.Document, n *schema.Card) schema.Diagnostics {
 		if e > MaxStrain {
 			add("/verification/monotonic_strain", "monotonic strain %g is beyond the small-strain limit %g of the reference integrator", e, MaxStrain)
 		}
-		overWork("/verification/monotonic_strain", fmt.Sprintf("the monotonic case to strain %g", e), e/epsY)
+		overWork("/verification/monotonic_strain", fmt.Sprintf("the monotonic case to strain %g", e), e/epsY, false)
 	}
 	if given.StrainAmplitudes != nil {
 		for i, a := range v.StrainAmplitudes {
@@ -58,17 +62,17 @@ func Sizing(doc *schema.Document, n *schema.Card) schema.Diagnostics {
 			if a > MaxStrain {
 				add(p, "strain amplitude %g is beyond the small-strain limit %g of the reference integrator", a, MaxStrain)
 			}
-			overWork(p, fmt.Sprintf("the cycling case at amplitude %g", a), cyclicWork(a, a)/epsY)
+			overWork(p, fmt.Sprintf("the cycling case at amplitude %g", a), cyclicWork(a, a)/epsY, false)
 			if i == 0 {
 				r := math.Min(a, MaxStrain/2) // the mean-strain relaxation case: mean = amplitude
-				overWork(p, fmt.Sprintf("the mean-strain relaxation case (mean strain and amplitude %g)", r), cyclicWork(2*r, r)/epsY)
+				overWork(p, fmt.Sprintf("the mean-strain relaxation case (mean strain and amplitude %g)", r), cyclicWork(2*r, r)/epsY, false)
 			}
 		}
 	}
 	if given.Ratcheting != nil && v.Ratcheting != nil {
 		r := v.Ratcheting
 		if path := ratchetWork(r) / n.Plasticity.YieldStress; path > MaxPathYields {
-			overWork("/verification/ratcheting/cycles", fmt.Sprintf("the ratcheting case (%d cycles of amplitude %g Pa)", r.Cycles, r.StressAmplitude), path)
+			overWork("/verification/ratcheting/cycles", fmt.Sprintf("the ratcheting case (%d cycles of amplitude %g %s)", r.Cycles, given.Ratcheting.StressAmplitude, doc.Card.Units.Stress), path, true)
 		} else if m, err := Material(n); err == nil {
 			if peak, err := ratchetPeak(&m, r); err == nil && peak > MaxStrain {
 				add("/verification/ratcheting", "the ratcheting case reaches a strain of %.4g after %d cycles, beyond the small-strain limit %g of the reference integrator: lower the mean stress, the amplitude or the cycles", peak, r.Cycles, MaxStrain)
@@ -76,16 +80,16 @@ func Sizing(doc *schema.Document, n *schema.Card) schema.Diagnostics {
 		}
 	}
 	for i, r := range v.References {
-		path := 0.0
+		path, stress := 0.0, r.Control == schema.ControlStress
 		for j := 1; j < len(r.Points); j++ {
 			a, b := r.Points[j-1], r.Points[j]
-			if r.Control == schema.ControlStress {
+			if stress {
 				path += math.Abs(b[1]-a[1]) / n.Plasticity.YieldStress
 			} else {
 				path += math.Abs(b[0]-a[0]) / epsY
 			}
 		}
-		overWork(fmt.Sprintf("/verification/references/%d", i), fmt.Sprintf("reference %q", r.Name), path)
+		overWork(fmt.Sprintf("/verification/references/%d", i), fmt.Sprintf("reference %q", r.Name), path, stress)
 	}
 	return ds
 }
