@@ -95,10 +95,10 @@ func (d *path1D) step(dEps float64) (plastic.StepInfo, error) {
 		// of Voce's R is the cost of this bookkeeping).
 		d.inv.maxYield = math.Max(d.inv.maxYield, math.Abs(math.Abs(s.Sigma-alpha)-k)/k)
 		// The intrinsic dissipation of the increment (Dissipation1D, with
-		// the same R) and the round-off scale S of its
-		// terms: eps_p(n+1) - eps_p(n) errs by u |eps_p| of each end, which
-		// at a tiny dp (1e-18 is seen) dwarfs dp itself, and the products
-		// and the sum add a few u of each term's size.
+		// the same R) and the round-off scale S of its terms: eps_p(n+1) -
+		// eps_p(n) errs by u |eps_p| of each end, which at a tiny dp (1e-18
+		// is seen) dwarfs dp itself, and the products and the sum add a few
+		// u of each term's size.
 		dEpsP := s.EpsP - prev.EpsP
 		diss := (s.Sigma-alpha)*dEpsP - (k-m.SigmaY)*info.DP
 		scale := math.Abs(s.Sigma-alpha)*(math.Abs(s.EpsP)+math.Abs(prev.EpsP)) +

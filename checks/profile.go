@@ -78,35 +78,39 @@ func roundBasis(n int) string {
 // transientTail estimates |q_N - q_inf|, how far the last value of the
 // per-cycle sequence q (q[k-1] the value of cycle k of the exact solution:
 // branch solutions tip to tip) still is from its limit, or says why it
-// cannot ("" when it can). rhoModel is the slowest decay per cycle that
-// the card's rates predict (slowestDecay).
+// cannot ("" when it can). floor is the round-off of the values q;
+// rhoModel is the slowest decay per cycle that the card's rates predict
+// (slowestDecay).
 //
 // No closed-form bound on the remainder is used: the memory of the virgin
 // state decays by exp(-gamma dp) only under a common plastic-strain
 // history, and under strain control the plastic strain range of each
 // cycle moves with the back stress, which slows the decay (measured on
 // random cards: residuals 3.5 to 1,400 times above sum 2 C/gamma
-// exp(-gamma p)). The estimate is taken from the sequence itself. With
-// d_k = q_k - q_(k-1) the last four changes,
+// exp(-gamma p)). The estimate is taken from the sequence itself, from its
+// last six changes d_k = q_k - q_(k-1). When every |d_k| <= floor the
+// sequence has converged to round-off and the tail is floor. Otherwise the
+// changes must be a monotone decay (one sign, |d_k| decreasing) whose
+// ratios d_k/d_(k-1) fall by at most ratioDrop a cycle beyond their
+// round-off. A sum of decaying modes of one sign, d_k = sum c_j r_j^k with
+// the c_j of one sign, has the remainder
 //
-//   - if every |d_k| <= floor (round-off of q), the sequence has converged:
-//     tail = floor;
+//	sum_j c_j r_j^(N+1)/(1 - r_j) <= |d_N| r/(1 - r)   for every r >= max r_j,
 //
-//   - else the changes must be a monotone decay: one sign, |d_k|
-//     decreasing. A sum of decaying modes of one sign, d_k = sum c_j
-//     r_j^k with c_j of one sign, has remainder sum c_j r_j^(N+1)/(1 -
-//     r_j) <= |d_N| r/(1 - r) for every r >= max r_j. The observed ratios
-//     |d_k/d_(k-1)| lie between the rates and so underestimate the
-//     slowest one while a faster mode still dominates (seen: observed
-//     0.944, slowest 0.991); so r is taken halfway between 1 and the
-//     larger of the largest observed ratio and rhoModel, r = (1 + max(rho,
-//     rhoModel))/2 (the margin: our choice, no source), and
+// and its observed ratios lie between the rates, growing toward the
+// slowest, so they underestimate it while a faster mode still dominates
+// (seen: observed 0.944, slowest 0.991). The rate is therefore taken
+// halfway between 1 and the larger of the largest observed ratio and
+// rhoModel, r = (1 + max(rho, rhoModel))/2 (the margin: our choice, no
+// source), and the tail is |d_N| r/(1 - r) + floor. A faster mode of the
+// opposite sign makes the ratios fall toward the slower rate by ever less
+// (harmless: they overestimate it); a slower one makes them fall ever
+// faster before it takes over (seen: a mean stress that overshoots zero
+// under Voce softening), which ratioDrop refuses.
 //
-//     tail = |d_N| r/(1 - r) + floor.
-//
-// A conservative estimate with the stated margin, not a proof (the
-// modes' signs and rates are inferred): changes that are not a monotone
-// decay are refused, not guessed.
+// A conservative estimate with the stated margin, not a proof (the modes'
+// signs and rates are inferred): changes that are not such a decay are
+// refused, not guessed.
 func transientTail(q []float64, floor, rhoModel float64) (tail float64, why string) {
 	const last = 6
 	if len(q) < last+1 {
@@ -128,8 +132,8 @@ func transientTail(q []float64, floor, rhoModel float64) (tail float64, why stri
 			return 0, fmt.Sprintf("the cycle-to-cycle changes of the last %d cycles (%.3g) are not a monotone decay, so the remaining transient cannot be estimated", last, d)
 		}
 		ratio := d[j] / d[j-1]
-		// Relative round-off of the ratio: floor over each change.
-		noise := ratio * (floor/math.Abs(d[j]) + floor/math.Abs(d[j-1]))
+		// Round-off of the ratio: each change errs by up to 2 floor.
+		noise := 2 * ratio * (floor/math.Abs(d[j]) + floor/math.Abs(d[j-1]))
 		if j > 1 && ratio < prev*(1-ratioDrop)-noise-prevNoise {
 			return 0, fmt.Sprintf("the decay of the last %d cycle-to-cycle changes (%.3g) accelerates: a slower part of the opposite sign may remain, so the remaining transient cannot be estimated", last, d)
 		}

@@ -135,11 +135,11 @@ func (v *verifier) relaxation(ctx context.Context, refine int) (Case, CaseSettin
 		for k := 1; k <= N; k++ {
 			seq[k-1] = meanRef(k)
 		}
-		dEpsP, _, _, plastic, err := stabilizedLoop(m, kStab, r.StrainAmplitude)
+		dEpsP, _, _, yields, err := stabilizedLoop(m, kStab, r.StrainAmplitude)
 		if err != nil {
 			return c, CaseSetting{}, err
 		}
-		if !plastic {
+		if !yields {
 			c.omit("relaxed mean stress", "the stabilized loop is elastic at this amplitude: an elastic shakedown keeps part of the mean stress")
 			break
 		}

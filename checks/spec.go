@@ -109,10 +109,12 @@ const (
 	// (stress control), counted where the case resolves it at the
 	// profile's increments (the middle cycles of the strain-controlled
 	// cycling cases run at two increments a branch and count 4 increments
-	// a cycle instead; see caseWork). At the strict profile's 40
-	// increments a yield strain it is 200,000 increments a run (the
-	// half-increment rerun twice that); measured in BenchmarkSizingLimit.
-	// Our choice, no source: 250 times the work of the default cases.
+	// a cycle instead; see cyclicWork, ratchetWork and referenceStep). At
+	// the strict profile's 40 increments a yield strain it is 200,000
+	// increments a run (the half-increment rerun twice that); the time and
+	// memory of a card at every limit are measured by BenchmarkSizingLimit.
+	// Our choice, no source: 250 times the default monotonic case (20
+	// yield strains).
 	MaxPathYields = 5000
 )
 
@@ -216,6 +218,8 @@ func (s Spec) Resolve() (Spec, error) {
 		if err := work("Ratcheting.Cycles", float64(r.Cycles), ratchetWork(r.MeanStress, r.StressAmplitude, r.Cycles)/m.SigmaY); err != nil {
 			return s, err
 		}
+		// A branch solution that cannot be computed is not a spec error:
+		// the ratcheting case reports it (CaseError).
 		if peak, err := ratchetPeakStrain(m, r); err == nil && peak > MaxStrain {
 			return bad("Ratcheting.MeanStress", r.MeanStress, fmt.Sprintf("the ratcheting path reaches a strain of %.4g after %d cycles (branch solutions), beyond the small-strain limit %g: lower the mean stress, the amplitude or the cycles", peak, r.Cycles, MaxStrain))
 		}
