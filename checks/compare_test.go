@@ -101,8 +101,8 @@ func TestResponsesAgainstClosedForms(t *testing.T) {
 	const amp = 0.004
 	load := Spec{StrainAmplitudes: []float64{amp}, Cycles: 200, Ratcheting: &Ratcheting{MeanStress: 50e6, StressAmplitude: 260e6, Cycles: 5}}
 	resp := responsesOf(t, &m, load)
-	_, sA, _, ok := stabilizedLoop(&m, sy, amp)
-	if !ok {
+	_, sA, _, ok, err := stabilizedLoop(&m, sy, amp)
+	if err != nil || !ok {
 		t.Fatal("no stabilized loop")
 	}
 	delta, ok := singleTermRatchet(&m, 50e6-260e6, 50e6+260e6)
