@@ -182,14 +182,22 @@ func (d *path1D) stressTo(target, h float64) error {
 
 // solveStress returns the strain increment from the current state that
 // reaches the stress sig within tol. The stress is increasing in the strain
-// increment (plastic modulus > -E); the root is kept in a bracket and
-// Newton steps that leave it are replaced by bisection.
+// increment where the plastic modulus is positive; a softening card
+// (Voce with Q b below -(sum H)) dips first, and a target beyond the dip is
+// reached past it, as the branch solutions reach it (findRoot). The root
+// is kept in a bracket: while one side is open the trial moves out by a
+// width that doubles each time (from the elastic guess, at least tol/E),
+// so a root beyond a dip is bracketed in a few dozen steps; Newton steps
+// that leave a closed bracket are replaced by bisection. Not converging in
+// 200 iterations (60 doublings and 140 halvings, room for a bracket from
+// 1e-14 to 1e4 in strain solved to 1e-28) is an error.
 func (d *path1D) solveStress(sig, tol float64) (float64, error) {
 	m := d.m
 	var trial plastic.State1D
 	x := (sig - d.st.Sigma) / m.E
+	width := math.Max(math.Abs(x), tol/m.E)
 	lo, hi := math.Inf(-1), math.Inf(1)
-	for it := 0; it < 100; it++ {
+	for it := 0; it < 200; it++ {
 		info, err := d.step1D(&trial, &d.st, x, d.set)
 		if err != nil {
 			return 0, fmt.Errorf("stress target %g Pa at strain %g: %w", sig, d.st.Eps, err)
@@ -207,9 +215,11 @@ func (d *path1D) solveStress(sig, tol float64) (float64, error) {
 		if !(next > lo && next < hi) {
 			switch {
 			case math.IsInf(hi, 1):
-				next = x + 2*math.Abs(x-lo) + tol/m.E
+				width *= 2
+				next = lo + width
 			case math.IsInf(lo, -1):
-				next = x - 2*math.Abs(hi-x) - tol/m.E
+				width *= 2
+				next = hi - width
 			default:
 				next = lo + (hi-lo)/2
 			}

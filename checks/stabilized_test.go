@@ -89,6 +89,8 @@ func TestIssue9Cards(t *testing.T) {
 	}
 	plasticModulus := func(E, Et float64) float64 { return E * Et / (E - Et) }
 	E289, E34 := 1.0715e11, 1.94921e11
+	const psi = 6894.757293168 // Pa (NIST SP 811, 2008, B.9; see demo_test.go)
+	E469, sy469 := 2.98934e7*psi, 120153*psi
 	rows := []struct {
 		name    string
 		spec    Spec
@@ -113,6 +115,10 @@ func TestIssue9Cards(t *testing.T) {
 			Spec{Material: mat(205335e6, 0.3002, 749.329e6, nil, plastic.Isotropic{Kind: plastic.IsoVoce, Q: 33.8533e6, B: 13.1857}),
 				StrainAmplitudes: []float64{0.0073, 0.0146}},
 			"step-size convergence", false},
+		{"a linear term and Voce softening faster than it hardens (H + Q b < 0): the stress-controlled increment stepped by tol/E past the dip and gave up after 100 (card space 469)",
+			Spec{Material: mat(E469, 0.3015, sy469, []plastic.Term{{C: plasticModulus(E469, 198273*psi)}}, plastic.Isotropic{Kind: plastic.IsoVoce, Q: -8461.95 * psi, B: 54.3109}),
+				Ratcheting: &Ratcheting{MeanStress: 0.025 * sy469, StressAmplitude: 1.025 * sy469, Cycles: 20}},
+			"accumulated ratchet strain", false},
 		{"four AF terms and Voce softening: the mean stress overshoots zero, a slow mode of the opposite sign takes over (card space 926)",
 			Spec{Material: mat(7.26667e10, 0.333, 2.50349e8, []plastic.Term{{C: 1.93639e10, Gamma: 1535.48}, {C: 5.63895e10, Gamma: 233.83}, {C: 9.40913e9, Gamma: 46.0105}, {C: 1.88997e8, Gamma: 4.93545}}, plastic.Isotropic{Kind: plastic.IsoVoce, Q: -1.89396e7, B: 1.04368}),
 				StrainAmplitudes: []float64{0.00689, 0.0138}},
