@@ -185,7 +185,7 @@ func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool,
 	if store != nil {
 		// The same records directory as serve's: the job id of the card
 		// under this tool version, immutable files, a ledger line.
-		id := worker.JobID(l.card.Digest, worker.Settings{ToolVersion: version})
+		id := worker.JobID(l.card.Digest, worker.Settings{ToolVersion: toolOf().Version})
 		if _, err := store.Put(id, worker.MetaOf(out.Record), rec, out.Card); err != nil {
 			return fail(err)
 		}
