@@ -46,9 +46,11 @@ type Outputs struct {
 	Record *checks.Record
 	Card   []byte          // the neutral card: the canonical card, indented JSON
 	Tables []convert.Table // tabulated curves of the neutral card
-	// Diagnoses say, for each failed reference curve, which usual
-	// misreading of the card makes it match, if any (see Diagnose).
-	Diagnoses []Diagnosis
+	// Diagnoses say, for each reference curve, which usual misreading of
+	// the card explains its failure, or matches it far better than the card
+	// as written although it passes (see checks.Diagnose). The record's
+	// Findings carry them, worded canonically.
+	Diagnoses []checks.Diagnosis
 }
 
 // Verify runs the standard verification of a canonical card and builds its
@@ -63,12 +65,12 @@ func Verify(ctx context.Context, c *schema.Card, tool checks.Tool, created time.
 	if err != nil {
 		return nil, fmt.Errorf("verify %s: %w", c.ID, err)
 	}
-	diags, err := Diagnose(ctx, c, spec, res)
+	diags, err := checks.Diagnose(ctx, spec, StressUnits())
 	if err != nil {
 		return nil, fmt.Errorf("diagnose %s: %w", c.ID, err)
 	}
 	for _, d := range diags {
-		res.Findings = append(res.Findings, d.Describe(nil))
+		res.Findings = append(res.Findings, d.Finding())
 	}
 	canon, err := convert.Canonical(c)
 	if err != nil {
