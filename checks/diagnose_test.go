@@ -1,0 +1,260 @@
+package checks
+
+import (
+	"context"
+	"errors"
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"matgate/checks/plastic"
+)
+
+// prager is a one-term Prager card: E 200 GPa, yield 200 MPa, H.
+func prager(t *testing.T, H float64) plastic.Material {
+	t.Helper()
+	m, err := plastic.NewMaterial(200*gpa, 0.3, 200*mpa, []plastic.Term{{C: H}}, plastic.Isotropic{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return m
+}
+
+// pragerTension is monotonic tension of a Prager card at strains eps:
+// sigma = E eps to the yield strain, then (H eps + sy)/(1 + H/E) (from
+// alpha = H eps_p and eps = sigma/E + eps_p; W. Prager, J. Appl. Mech. 23,
+// 1956; derived here).
+func pragerTension(E, sy, H float64, eps []float64) [][2]float64 {
+	pts := make([][2]float64, len(eps))
+	for i, e := range eps {
+		s := E * e
+		if s > sy {
+			s = (H*e + sy) / (1 + H/E)
+		}
+		pts[i] = [2]float64{e, s}
+	}
+	return pts
+}
+
+func strains(max float64, n int) []float64 {
+	out := make([]float64, n+1)
+	for i := range out {
+		out[i] = max * float64(i) / float64(n)
+	}
+	return out
+}
+
+// TestNearMissRule exercises the thresholds of a finding on a passing
+// reference (nearMissRatio 10, nearMissFloor 1e-4) on a Prager card whose
+// linear term was written as a tangent modulus Et of a few percent of E,
+// while the reference holds that number as the plastic modulus: the card's
+// H = E Et/(E - Et) (Lubliner, Plasticity Theory, 1990, sec. 3.3) is off by
+// Et/(E - Et). The reference runs to 3 % strain (15 yield strains).
+func TestNearMissRule(t *testing.T) {
+	const E, sy = 200 * gpa, 200 * mpa
+	eps := strains(0.03, 30)
+	scatter := func(pts [][2]float64, a float64) [][2]float64 {
+		r := rand.New(rand.NewPCG(3, 4))
+		out := make([][2]float64, len(pts))
+		for i, p := range pts {
+			out[i] = [2]float64{p[0], p[1] * (1 + a*(2*r.Float64()-1))}
+		}
+		return out
+	}
+	for _, tc := range []struct {
+		name    string
+		EtE     float64 // Et/E of the slip (0: none)
+		scatter float64 // relative amplitude on the reference stresses
+		want    bool    // a near-miss finding
+	}{
+		// The card's own curve: no finding.
+		{name: "own curve", EtE: 0, want: false},
+		// Et/E = 3 %: the card's error is about 3 % of the hardening,
+		// H eps_p / sigma ~ 0.46 at 3 % strain, so ~1.4 % < 2 %: passes,
+		// the misreading matches to round-off: a finding.
+		{name: "slip at 3 percent", EtE: 0.03, want: true},
+		// The same slip under scatter of 0.02 %: the misreading's error
+		// is the scatter, below a tenth of the card's: still a finding.
+		{name: "slip with small scatter", EtE: 0.03, scatter: 2e-4, want: true},
+		// Under scatter of 0.2 % the misreading's error is more than a
+		// tenth of the card's: no finding (the ratio).
+		{name: "slip with scatter", EtE: 0.03, scatter: 2e-3, want: false},
+		// Et/E = 2e-4: the card's error is about 2e-4 x H eps_p / sigma
+		// (0.005 here) = 1e-6, under the floor 1e-4: no finding (the floor).
+		{name: "slip under the floor", EtE: 2e-4, want: false},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			Et := 0.02 * E // the reference's plastic modulus when there is no slip
+			if tc.EtE > 0 {
+				Et = tc.EtE * E
+			}
+			H := Et
+			if tc.EtE > 0 {
+				H = E * Et / (E - Et) // the card read the number as a tangent modulus
+			}
+			ref := Reference{Name: "r", Kind: "solver", Control: "strain", Points: scatter(pragerTension(E, sy, Et, eps), tc.scatter)}
+			ds, err := Diagnose(context.Background(), Spec{Material: prager(t, H), References: []Reference{ref}}, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			got := false
+			for _, d := range ds {
+				t.Logf("%s", d.Describe(Wording{Unit: Unit{"MPa", mpa}, Tangent: []bool{true}}))
+				if !d.Passed {
+					t.Errorf("the reference check fails (max error %g): the case does not test a near miss", d.MaxError)
+				}
+				got = got || d.Misreading == TangentAsPlastic
+			}
+			if got != tc.want {
+				t.Errorf("near-miss finding %v, want %v", got, tc.want)
+			}
+		})
+	}
+}
+
+// TestDiagnoseStressControl: a stress-controlled reference of an
+// Armstrong-Frederick card whose c was multiplied by 3/2 once too often
+// (the card's c is 1.5 times the reference's). The strain at stress
+// sigma on monotonic loading is eps = sigma/E - ln(1 - (sigma - sy)
+// gamma/C)/gamma (the inverse of the Armstrong-Frederick branch, Armstrong
+// and Frederick 1966; Lemaitre and Chaboche 1990, ch. 5, from memory).
+// The stress-unit and swap trials need units, so with nil units they are
+// skipped with a reason.
+func TestDiagnoseStressControl(t *testing.T) {
+	const E, sy, C, gamma = 200 * gpa, 200 * mpa, 30000 * mpa, 200.0
+	m, err := plastic.NewMaterial(E, 0.3, sy, []plastic.Term{{C: C, Gamma: gamma}}, plastic.Isotropic{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var pts [][2]float64
+	C1 := C / 1.5
+	for k := 0; k <= 20; k++ {
+		s := sy + 0.9*(C1/gamma)*float64(k)/20 // up to 90 % of the reference's saturation
+		pts = append(pts, [2]float64{s/E - math.Log1p(-(s-sy)*gamma/C1)/gamma, s})
+	}
+	ds, err := Diagnose(context.Background(), Spec{Material: m, References: []Reference{{Name: "r", Kind: "solver", Control: "stress", Points: pts[1:]}}}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(ds) == 0 || ds[0].Misreading != TensorFactor || ds[0].Factor != 2.0/3 || ds[0].Passed || !(ds[0].Matched < 1e-6) {
+		t.Fatalf("diagnoses %+v, want tensor-factor 2/3 first on a failed check", ds)
+	}
+	skipped := map[Misreading]bool{}
+	for _, tr := range ds[0].Tried {
+		if tr.Skipped != "" {
+			skipped[tr.Misreading] = true
+		}
+	}
+	// A stress path beyond the misread card's saturation (gamma per
+	// percent with c kept: saturation c/gamma a hundred times smaller) is
+	// refused, not run.
+	if !skipped[StressUnit] || !skipped[SwappedCGamma] || !skipped[GammaPerPercent] {
+		t.Errorf("skipped trials %v, want stress-unit and c-gamma-swapped (no units) and gamma-per-percent (beyond saturation)", skipped)
+	}
+}
+
+// TestReplayBudget: a reference with a strain of 1e4 is refused by
+// Resolve with the numbers (1e4 / (1e-3 / 10) = 1e8 increments of the
+// standard profile, the yield strain 200 MPa / 200 GPa), as an invalid
+// spec; one within the budget is taken.
+func TestReplayBudget(t *testing.T) {
+	m := prager(t, 2*gpa)
+	long := Reference{Name: "r", Kind: "measured", Control: "strain", Points: [][2]float64{{0, 0}, {1e4, 300 * mpa}}}
+	_, err := Spec{Material: m, References: []Reference{long}}.Resolve()
+	var se *SpecError
+	if !errors.As(err, &se) || !errors.Is(err, ErrInvalidSpec) || se.Field != "References[0].Points" || math.Abs(se.Value/1e8-1) > 1e-6 {
+		t.Fatalf("Resolve: %v, want a SpecError on References[0].Points of about 1e8 increments", err)
+	}
+	long.Points[1][0] = 0.9 * MaxReplayIncrements * 1e-3 / 10
+	if _, err := (Spec{Material: m, References: []Reference{long}}).Resolve(); err != nil {
+		t.Errorf("within the budget: %v", err)
+	}
+}
+
+// TestReplayBoundedMemory replays 200 fully reversed cycles at +-10 yield
+// strains on a Prager card (79,900 increments of the standard profile) and
+// checks that the history kept is bounded (the first and last increments
+// for the series), that the series marks the gap, and that every recorded
+// tip matches Prager's closed form: at a tip of a plastic branch sigma =
+// (H eps +- sy)/(1 + H/E) (W. Prager 1956; derived here from alpha = H
+// eps_p), to round-off (1e-12 relative).
+func TestReplayBoundedMemory(t *testing.T) {
+	const E, sy, H = 200 * gpa, 200 * mpa, 2 * gpa
+	m := prager(t, H)
+	a := 10 * sy / E
+	var pts [][2]float64
+	for k := 0; k < 200; k++ {
+		pts = append(pts, [2]float64{a, (H*a + sy) / (1 + H/E)}, [2]float64{-a, (-H*a - sy) / (1 + H/E)})
+	}
+	spec, err := Spec{Material: m, References: []Reference{{Name: "r", Kind: "solver", Control: "strain", Points: pts}}}.Resolve()
+	if err != nil {
+		t.Fatal(err)
+	}
+	v := newVerifier(spec)
+	d, got, want, err := v.replay(context.Background(), v.m, spec.References[0], v.hEps)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// 10 yield strains in increments of a tenth: 100 to the first tip,
+	// 200 a branch after it.
+	if d.n != 100+399*200 {
+		t.Errorf("%d increments, want 79,900", d.n)
+	}
+	if bound := 8*maxSeries + replayChunk + 4 + maxSeries/2; cap(d.pts) > bound {
+		t.Errorf("history capacity %d, want at most %d", cap(d.pts), bound)
+	}
+	s := d.series()
+	gaps := 0
+	for _, smp := range s {
+		if smp.Gap {
+			gaps++
+		}
+	}
+	if len(s) != maxSeries || gaps != 1 {
+		t.Errorf("series of %d samples with %d gaps, want %d and 1", len(s), gaps, maxSeries)
+	}
+	for i := range got {
+		if math.Abs(got[i]-want[i]) > 1e-12*math.Abs(want[i]) {
+			t.Errorf("tip %d: stress %.15g, closed form %.15g", i, got[i], want[i])
+		}
+	}
+}
+
+// TestEngineeringToTrue: the conversion eps = ln(1 + e), sigma = s (1 + e)
+// (Dieter, Mechanical Metallurgy, 1986, ch. 8, from memory), cut at the
+// maximum engineering stress of the first loading branch.
+func TestEngineeringToTrue(t *testing.T) {
+	for _, tc := range []struct {
+		name string
+		pts  [][2]float64
+		kept int // 0: refused
+	}{
+		{"rising", [][2]float64{{0, 0}, {0.1, 100}, {0.2, 120}}, 3},
+		{"past the maximum", [][2]float64{{0, 0}, {0.1, 100}, {0.2, 120}, {0.3, 110}, {0.4, 90}}, 3},
+		{"reversal before any drop", [][2]float64{{0, 0}, {0.1, 100}, {0.05, 20}, {0.06, 10}}, 4},
+		{"strain at -1", [][2]float64{{0, 0}, {-1, -100}}, 0},
+		{"maximum at the first point", [][2]float64{{0.1, 100}, {0.2, 50}}, 0},
+	} {
+		out, kept, err := engineeringToTrue(tc.pts)
+		if tc.kept == 0 {
+			if err == nil {
+				t.Errorf("%s: converted, want refused", tc.name)
+			}
+			continue
+		}
+		if err != nil || kept != tc.kept || len(out) != kept {
+			t.Errorf("%s: kept %d (%d points), %v; want %d", tc.name, kept, len(out), err, tc.kept)
+			continue
+		}
+		// e = 0.1, s = 100: eps = ln 1.1 = 0.0953101798, sigma = 110.
+		if p := out[1]; math.Abs(p[0]-0.0953101798043249) > 1e-15 || math.Abs(p[1]-110) > 1e-12 {
+			t.Errorf("%s: point 1 -> %v, want [0.0953101798, 110]", tc.name, p)
+		}
+		back := trueToEngineering(out)
+		for i := range back {
+			if math.Abs(back[i][0]-tc.pts[i][0]) > 1e-15 || math.Abs(back[i][1]-tc.pts[i][1]) > 1e-12 {
+				t.Errorf("%s: round trip of point %d: %v, want %v", tc.name, i, back[i], tc.pts[i])
+			}
+		}
+	}
+}
