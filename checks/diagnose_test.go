@@ -5,6 +5,7 @@ import (
 	"errors"
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 
 	"matgate/checks/plastic"
@@ -254,6 +255,67 @@ func TestEngineeringToTrue(t *testing.T) {
 		for i := range back {
 			if math.Abs(back[i][0]-tc.pts[i][0]) > 1e-15 || math.Abs(back[i][1]-tc.pts[i][1]) > 1e-12 {
 				t.Errorf("%s: round trip of point %d: %v, want %v", tc.name, i, back[i], tc.pts[i])
+			}
+		}
+	}
+}
+
+// TestDescribe words diagnoses in the card's own terms (MPa; term 2
+// written as a tangent modulus). The numbers are worked by hand: Et = E
+// H/(E + H) = 70000 x 14000 / 84000 = 11667 MPa (Lubliner 1990, sec. 3.3);
+// 1 ksi = 6.894757 MPa (NIST SP 811, 2008).
+func TestDescribe(t *testing.T) {
+	const E = 70000 * mpa
+	mat := func(af plastic.Term, H float64) plastic.Material {
+		m, err := plastic.NewMaterial(E, 0.3, 250*mpa, []plastic.Term{af, {C: H}}, plastic.Isotropic{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return m
+	}
+	card := mat(plastic.Term{C: 42000 * mpa, Gamma: 260}, E*14000*mpa/(E-14000*mpa))
+	units := []Unit{{"MPa", mpa}, {"ksi", 6.894757293168361 * mpa}}
+	w := Wording{Unit: units[0], Tangent: []bool{false, true}}
+	base := Diagnosis{Reference: "r", MaxError: 0.1, Tolerance: 0.02, Matched: 1e-12, Term: -1, Card: card, Misread: card, units: units}
+	for _, tc := range []struct {
+		name string
+		edit func(d *Diagnosis)
+		want []string
+	}{
+		{"tangent read as plastic", func(d *Diagnosis) {
+			d.Misreading, d.Term, d.Misread = TangentAsPlastic, 1, mat(card.Terms[0], 14000*mpa)
+		}, []string{`reference "r" (max error 0.1, tolerance 0.02): `, "tangent_modulus 14000 MPa of kinematic term 2 is read as a plastic modulus (tangent modulus 11667 MPa)", "max error then 1e-12"}},
+		{"near miss", func(d *Diagnosis) {
+			d.Misreading, d.Term, d.Misread, d.Passed, d.MaxError = TangentAsPlastic, 1, mat(card.Terms[0], 14000*mpa), true, 0.01
+		}, []string{`reference "r" passes (max error 0.01, tolerance 0.02), but`, "under a tenth of the card's"}},
+		{"gamma per percent", func(d *Diagnosis) {
+			d.Misreading, d.Factor = GammaPerPercent, 1
+			d.Card = mat(plastic.Term{C: 42000 * mpa, Gamma: 2.6}, card.Terms[1].C)
+		}, []string{"gammas were given per percent strain", "gamma 2.6 of term 1 becomes 260"}},
+		{"strain in percent", func(d *Diagnosis) {
+			d.Misreading, d.Factor = GammaPerPercent, 100
+			d.Card = mat(plastic.Term{C: 420 * mpa, Gamma: 2.6}, card.Terms[1].C)
+		}, []string{"fitted with strain in percent", "gamma 2.6 of term 1 becomes 260 and c 420 MPa becomes 42000 MPa"}},
+		{"c and gamma swapped", func(d *Diagnosis) {
+			d.Misreading, d.Term, d.Unit = SwappedCGamma, 0, units[0]
+			d.Card = mat(plastic.Term{C: 260 * mpa, Gamma: 42000}, card.Terms[1].C)
+		}, []string{"c and gamma of kinematic term 1 were written in each other's place (values in MPa): term 1: c 260 MPa, gamma 42000 become c 42000 MPa, gamma 260"}},
+		{"stress unit", func(d *Diagnosis) {
+			d.Misreading, d.Factor = StressUnit, units[1].Pa/units[0].Pa
+		}, []string{"read in ksi rather than the card's MPa (a factor 6.894757)"}},
+		{"engineering, cut", func(d *Diagnosis) {
+			d.Misreading, d.Kept = EngineeringReference, 12
+		}, []string{"on its first 12 points, up to its maximum stress,", "engineering stress and strain", "cut them"}},
+		{"none", func(d *Diagnosis) {
+			d.Tried = []Trial{{Misreading: TensorFactor, Detail: "x 1.5", MaxError: 0.05}, {Misreading: StressUnit, Detail: "y", Skipped: "no"}}
+		}, []string{"none of the usual misreadings", "closest: tensor-factor (x 1.5) with max error 0.05"}},
+	} {
+		d := base
+		tc.edit(&d)
+		got := d.Describe(w)
+		for _, s := range tc.want {
+			if !strings.Contains(got, s) {
+				t.Errorf("%s: %q\nwant it to contain %q", tc.name, got, s)
 			}
 		}
 	}

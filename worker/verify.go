@@ -53,9 +53,12 @@ type Outputs struct {
 	Diagnoses []checks.Diagnosis
 }
 
-// Verify runs the standard verification of a canonical card and builds its
-// record and neutral card. A failed verification is a result (the record's
-// verdict), not an error; errors are cancellation and internal failures.
+// Verify runs the standard verification of a canonical card and the
+// diagnosis of its reference curves (findings), and builds its record and
+// neutral card. A failed verification is a result (the record's verdict),
+// not an error; errors are cancellation, a card the verification cannot
+// take (wrapping checks.ErrInvalidSpec, such as a reference too long to
+// replay) and internal failures.
 func Verify(ctx context.Context, c *schema.Card, tool checks.Tool, created time.Time) (*Outputs, error) {
 	spec, err := Spec(c)
 	if err != nil {
