@@ -247,7 +247,7 @@ func (v *verifier) diagnose(ctx context.Context, ref Reference, units []Unit) ([
 	}
 	sort.SliceStable(found, func(i, j int) bool { return found[i].Matched < found[j].Matched })
 	if len(found) == 0 && !ck.Pass {
-		base.Matched = closest
+		base.Matched = math.Min(closest, e0) // the card itself when no trial ran
 		found = []Diagnosis{base}
 	}
 	for i := range found {

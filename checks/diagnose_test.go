@@ -170,6 +170,11 @@ func TestReplayBudget(t *testing.T) {
 	if _, err := (Spec{Material: m, References: []Reference{long}}).Resolve(); err != nil {
 		t.Errorf("within the budget: %v", err)
 	}
+	// A curve that records no stress has no peak to be relative to.
+	flat := Reference{Name: "r", Kind: "measured", Control: "strain", Points: [][2]float64{{0, 0}, {0.01, 0}}}
+	if _, err := (Spec{Material: m, References: []Reference{flat}}).Resolve(); !errors.As(err, &se) || se.Field != "References[0].Points" {
+		t.Errorf("all-zero stresses: %v, want a SpecError on References[0].Points", err)
+	}
 }
 
 // TestReplayBoundedMemory replays 200 fully reversed cycles at +-10 yield

@@ -37,10 +37,25 @@ func replayIncrements(ref Reference, h float64) float64 {
 	return n
 }
 
-// checkReplay refuses reference i of a spec whose replay would take more
-// than MaxReplayIncrements increments, with the numbers, as a *SpecError
-// (an input the verification cannot take, not an integrator failure).
-func checkReplay(i int, ref Reference, m *plastic.Material, prof profile) error {
+// checkReference refuses reference i of a spec that the reference case
+// cannot compare: one whose compared quantity is zero at every point (the
+// error is relative to its peak), or whose replay would take more than
+// MaxReplayIncrements increments. The error is a *SpecError with the
+// numbers (an input the verification cannot take, not an integrator
+// failure).
+func checkReference(i int, ref Reference, m *plastic.Material, prof profile) error {
+	col, compared := 1, "stress"
+	if ref.Control == "stress" {
+		col, compared = 0, "strain"
+	}
+	zero := true
+	for _, p := range ref.Points {
+		zero = zero && p[col] == 0
+	}
+	if zero {
+		return &SpecError{Field: fmt.Sprintf("References[%d].Points", i), Value: 0,
+			Reason: fmt.Sprintf("reference %q records a %s of zero at every point: nothing to compare with (its errors are relative to the peak recorded %s)", ref.Name, compared, compared)}
+	}
 	// The increments of the verifier (newVerifier).
 	h := m.SigmaY / m.E / prof.incPerYield
 	qty, hText := "strain", fmt.Sprintf("%.3g (the yield strain / %g)", h, prof.incPerYield)
@@ -131,8 +146,8 @@ func (v *verifier) replay(ctx context.Context, m *plastic.Material, ref Referenc
 }
 
 // refError returns the largest and the RMS of |got - want| / peak |want|
-// over the points, and where the largest is. A curve whose recorded values
-// are all zero gives +Inf wherever got is not zero too.
+// over the points, and where the largest is. checkReference keeps peak
+// |want| above zero for the card's curves and every misreading keeps it so.
 func refError(got, want []float64) (maxErr, rms float64, at int) {
 	peak := 0.0
 	for _, w := range want {
@@ -141,9 +156,6 @@ func refError(got, want []float64) (maxErr, rms float64, at int) {
 	sq := 0.0
 	for i := range got {
 		e := math.Abs(got[i]-want[i]) / peak
-		if got[i] == want[i] {
-			e = 0
-		}
 		if e > maxErr || math.IsNaN(e) {
 			maxErr, at = e, i
 		}

@@ -207,7 +207,7 @@ func (s Spec) Resolve() (Spec, error) {
 				r.Tol = DefaultMeasuredTol
 			}
 		}
-		if err := checkReplay(i, r, m, profiles[s.Profile]); err != nil {
+		if err := checkReference(i, r, m, profiles[s.Profile]); err != nil {
 			return s, err
 		}
 		seen[r.Name] = true

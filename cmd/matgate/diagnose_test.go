@@ -126,14 +126,16 @@ func TestVerifyNearMiss(t *testing.T) {
 // TestVerifyRefusesLongReference: a reference with a strain of 1e4 (far
 // beyond small strain) would take about 5.7e8 increments of the yield
 // strain / 10 (250/70000/10); it is refused as invalid input (exit 2) with
-// the numbers, not run out of memory and not an internal error.
+// the numbers, located at the reference (line 14, column 7: the list item
+// of the card misreadCard writes), not run out of memory and not an
+// internal error.
 func TestVerifyRefusesLongReference(t *testing.T) {
 	dir := t.TempDir()
 	f := filepath.Join(dir, "long.yaml")
 	card := strings.Replace(misreadCard("plastic_modulus", 2100), "points: [[0, 0],", "points: [[0, 0], [10000, 300],", 1)
 	os.WriteFile(f, []byte(card), 0o644)
 	code, out, errOut := matgate(t, "", "verify", "--out", dir, f)
-	if code != exitInvalid || !strings.Contains(out, "References[0].Points") || !strings.Contains(out, "more than the budget of 1000000") {
+	if code != exitInvalid || !strings.Contains(out, "long.yaml:14:7: /verification/references/0: reference \"solver-tension\": replaying its 32 points") || !strings.Contains(out, "more than the budget of 1000000") {
 		t.Errorf("exit %d, want 2 and the replay budget\n%s%s", code, out, errOut)
 	}
 }
