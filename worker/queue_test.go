@@ -271,6 +271,33 @@ func TestHandlerSkipRetry(t *testing.T) {
 	if err := h.ProcessTask(context.Background(), task); !errorsIs(err, ErrBudget) {
 		t.Errorf("budget: %v, want ErrBudget", err)
 	}
+	// A verification that fails at once for another reason (here a
+	// stress-controlled reference beyond the card's saturation stress, which
+	// the spec refuses) names that reason, not the budget (issue 11: every
+	// failure was reported as the budget, even after 0.55 s).
+	bad := prepareTestCard(t, "beyond.yaml", []byte(`format: matgate.card/1
+id: beyond-saturation
+revision: 1
+title: reference beyond saturation (test input)
+source: test input, not material data
+units: {stress: MPa}
+elastic: {youngs_modulus: 200000, poisson_ratio: 0.3}
+plasticity:
+  yield_stress: 200
+  kinematic:
+    - {model: armstrong_frederick, c: 20000, gamma: 200}
+verification:
+  references:
+    - {name: beyond, kind: solver, control: stress, points: [[0, 0], [0.01, 500]]}
+`))
+	badTask, _, err := NewVerifyTask(bad, Settings{ToolVersion: "test"}, time.Minute)
+	if err != nil {
+		t.Fatal(err)
+	}
+	err = s.handler().ProcessTask(context.Background(), badTask)
+	if err == nil || !errorsIs(err, asynq.SkipRetry) || errorsIs(err, ErrBudget) {
+		t.Errorf("failing card: %v, want SkipRetry with the cause, not ErrBudget", err)
+	}
 }
 
 // TestRedisDownIsRetried: with Redis gone the handler returns an error that
