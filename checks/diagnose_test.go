@@ -325,3 +325,51 @@ func TestDescribe(t *testing.T) {
 		}
 	}
 }
+
+// BenchmarkDiagnose is the diagnosis of one reference curve of each demo
+// card, every misreading tried (six stress units): a monotonic curve of 31
+// points to 20 yield strains, and 50 fully reversed cycles at +-5 yield
+// strains (about 20,000 increments a replay), both the card's own
+// response.
+func BenchmarkDiagnose(b *testing.B) {
+	units := []Unit{{"Pa", 1}, {"kPa", 1e3}, {"MPa", mpa}, {"psi", 6894.757293168361}, {"ksi", 6894757.293168361}, {"GPa", gpa}}
+	for _, d := range demoSpecs(b) {
+		epsY := d.spec.Material.SigmaY / d.spec.Material.E
+		mono := strains(20*epsY, 30)
+		var cyc []float64
+		for k := 0; k < 50; k++ {
+			cyc = append(cyc, 5*epsY, -5*epsY)
+		}
+		for _, c := range []struct {
+			name string
+			eps  []float64
+		}{{"monotonic", mono}, {"cyclic", cyc}} {
+			spec, err := d.spec.Resolve()
+			if err != nil {
+				b.Fatal(err)
+			}
+			v := newVerifier(spec)
+			pts := make([][2]float64, len(c.eps))
+			for i, e := range c.eps {
+				pts[i][0] = e
+			}
+			pts[0][1] = 1 // any nonzero stress: the replay gives the response
+			_, got, _, err := v.replay(context.Background(), v.m, Reference{Name: "r", Control: "strain", Points: pts}, v.hEps)
+			if err != nil {
+				b.Fatal(err)
+			}
+			for i := range pts {
+				pts[i][1] = got[i]
+			}
+			spec.References = []Reference{{Name: "r", Kind: "solver", Control: "strain", Points: pts}}
+			b.Run(d.name+"/"+c.name, func(b *testing.B) {
+				b.ReportAllocs()
+				for b.Loop() {
+					if _, err := Diagnose(context.Background(), spec, units); err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+		}
+	}
+}

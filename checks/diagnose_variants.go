@@ -109,6 +109,13 @@ func (v *verifier) variants(ref Reference, units []Unit) []variant {
 			if term >= 0 {
 				detail = fmt.Sprintf("c and gamma of kinematic term %d swapped, in %s", term+1, u.Name)
 			}
+			for i := 0; i < m.N; i++ {
+				if t := m.Terms[i]; !t.Linear() && (term < 0 || i == term) && !(t.C/u.Pa >= swapGammaMin && t.C/u.Pa <= swapGammaMax) {
+					vs = append(vs, variant{d: Diagnosis{Misreading: SwappedCGamma, Term: term, Unit: u}, detail: detail,
+						skip: fmt.Sprintf("the c of term %d in %s, %.4g, is no gamma of a metal", i+1, u.Name, t.C/u.Pa)})
+					return
+				}
+			}
 			modulus(Diagnosis{Misreading: SwappedCGamma, Term: term, Unit: u}, detail, func(i int, t plastic.Term) plastic.Term {
 				if !t.Linear() && (term < 0 || i == term) {
 					t.C, t.Gamma = t.Gamma*u.Pa, t.C/u.Pa
@@ -127,6 +134,18 @@ func (v *verifier) variants(ref Reference, units []Unit) []variant {
 	}
 	return vs
 }
+
+// A swap of c and gamma is tried in a unit only when the card's c in that
+// unit, the swapped gamma, lies in [swapGammaMin, swapGammaMax]: published
+// Armstrong-Frederick and Chaboche fits of metals have gammas from a few to
+// a few thousand (from memory of handbook and paper fits; the card space of
+// worker/cardspace draws 2 to 3000), so two decades of margin on each side.
+// The other units would make a gamma of 1e7 or more out of a c in Pa or
+// kPa, which no fit gives, and each trial costs a replay.
+const (
+	swapGammaMin = 0.1
+	swapGammaMax = 1e5
+)
 
 // unitRatios returns the distinct ratios a.Pa / b.Pa other than 1 of two
 // units, in increasing order: the factors by which stresses written in b
