@@ -267,9 +267,11 @@ func prepared(t *testing.T, name string, data []byte) spaceCard {
 
 // TestDiagnoseHitRates makes, on the demo cards and on random plausible
 // cards of worker/cardspace, reference curves from the card as written
-// (exact, and with 1 % scatter as a measured curve) and under each
-// misreading (see slips), and runs checks.Diagnose:
-//   - the card's own curves pass with no finding (no false alarm);
+// (exact, with 1 % scatter as a measured curve, by backward Euler at a
+// tenth of the profile's increment) and under each misreading (see
+// slips), and runs checks.Diagnose:
+//   - the card's own curves pass with no finding (no false alarm); the
+//     backward-Euler curve at the profile's increment is logged;
 //   - a misread curve is named: as the failure's diagnosis or as a near
 //     miss of a passing check, wherever the card's error is above the
 //     near-miss floor 1e-4 (below it the slip changes the curve by less
@@ -300,6 +302,7 @@ func TestDiagnoseHitRates(t *testing.T) {
 	}
 	type tally struct{ tried, cut, named, first, failed, nearMiss, belowFloor, integrator, scatterNamed int }
 	rates := map[checks.Misreading]*tally{}
+	var beCoarse struct{ failed, named int }
 	ctx := context.Background()
 	units := StressUnits()
 	for _, c := range cards {
@@ -311,12 +314,27 @@ func TestDiagnoseHitRates(t *testing.T) {
 		spec.References = []checks.Reference{
 			{Name: "own", Kind: "solver", Control: "strain", Points: own},
 			{Name: "own-scatter", Kind: "measured", Control: "strain", Points: scattered(own)},
+			// Another solver's answer: backward Euler (first order for
+			// Armstrong-Frederick terms) at a tenth of the profile's
+			// increment, and at the profile's own (yield strain / 10).
+			{Name: "own-be-fine", Kind: "solver", Control: "strain", Points: backwardEuler(t, &m, own, m.SigmaY/m.E/100)},
+			{Name: "own-be-coarse", Kind: "solver", Control: "strain", Points: backwardEuler(t, &m, own, m.SigmaY/m.E/10)},
 		}
 		ds, err := checks.Diagnose(ctx, spec, units)
 		if err != nil {
 			t.Fatalf("%s: %v", c.name, err)
 		}
 		for _, d := range ds {
+			if d.Reference == "own-be-coarse" {
+				// A coarse solver curve may fail the tolerance: the verdict
+				// on the curve, not a misreading. Naming one is counted.
+				beCoarse.failed++
+				if d.Misreading != "" {
+					beCoarse.named++
+					t.Logf("%s: coarse backward-Euler curve: %s", c.name, d.Describe(checks.Wording{Unit: c.unit}))
+				}
+				continue
+			}
 			t.Errorf("%s: the card's own curve %q gets a finding: %s", c.name, d.Reference, d.Describe(checks.Wording{Unit: c.unit}))
 		}
 		for k, s := range slips(t, m, c.unit) {
@@ -418,5 +436,25 @@ func TestDiagnoseHitRates(t *testing.T) {
 		ta := rates[checks.Misreading(k)]
 		fmt.Fprintf(&b, "  %-22s %4d (%d)  %4d (%d)  %d / %d  %d  %d;  %d\n", k, ta.tried, ta.cut, ta.named, ta.first, ta.failed, ta.nearMiss, ta.belowFloor, ta.integrator, ta.scatterNamed)
 	}
+	fmt.Fprintf(&b, "backward Euler at the profile's increment: %d curves fail the solver tolerance, %d of them with a misreading named\n", beCoarse.failed, beCoarse.named)
 	t.Log(b.String())
+}
+
+// backwardEuler returns m's stresses at the strains of pts by the backward
+// Euler return mapping (plastic.BackwardEuler, the usual solver's
+// algorithm) in increments of at most h: a solver curve of the card as
+// written with a first-order error.
+func backwardEuler(t *testing.T, m *plastic.Material, pts [][2]float64, h float64) [][2]float64 {
+	t.Helper()
+	var s plastic.State1D
+	set := &plastic.Settings{Algorithm: plastic.BackwardEuler}
+	out := make([][2]float64, len(pts))
+	for i, p := range pts {
+		path := plastic.Path1D{Control: plastic.StrainControl, Targets: []float64{p[0]}, MaxIncrement: h}
+		if _, err := m.Run1D(context.Background(), &s, &path, set, nil); err != nil {
+			t.Fatal(err)
+		}
+		out[i] = [2]float64{p[0], s.Sigma}
+	}
+	return out
 }
