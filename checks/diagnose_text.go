@@ -47,8 +47,8 @@ func (d Diagnosis) Finding() Finding {
 
 // Describe words the diagnosis in the terms of w.
 func (d Diagnosis) Describe(w Wording) string {
-	unit := w.Unit
-	if unit.Pa <= 0 {
+	unit, written := w.Unit, w.Unit.Pa > 0
+	if !written {
 		unit = Unit{Name: "Pa", Pa: 1}
 	}
 	val := func(pa float64) string { return fmt.Sprintf("%.5g %s", pa/unit.Pa, unit.Name) }
@@ -96,8 +96,10 @@ func (d Diagnosis) Describe(w Wording) string {
 				val(H1), i+1, val(H), tail)
 		}
 	case StressUnit:
+		// The pair of units only where the card's own unit is known (the
+		// canonical card is in Pa whatever it was written in).
 		for _, a := range d.units {
-			if math.Abs(a.Pa/(unit.Pa*d.Factor)-1) < 1e-9 {
+			if written && math.Abs(a.Pa/(unit.Pa*d.Factor)-1) < 1e-9 {
 				return head + fmt.Sprintf("the reference matches if its stresses are read in %s rather than the card's %s (a factor %.7g)%s", a.Name, unit.Name, d.Factor, tail)
 			}
 		}
