@@ -3,39 +3,27 @@ package worker
 import (
 	"context"
 	"fmt"
-	"math"
 	"strconv"
 	"strings"
 	"testing"
 	"time"
 
 	"matgate/checks"
+	"matgate/checks/plastic"
 	"matgate/convert"
 	"matgate/schema"
 )
 
-// monotonicAF is the closed-form monotonic tension curve of one
-// Armstrong-Frederick term (C/gamma saturation; C = H, gamma = 0 is a
-// linear Prager term), parametric in the plastic strain:
-//
-//	sigma = sy + (C/gamma) (1 - exp(-gamma eps_p))   (gamma = 0: sy + H eps_p)
-//	eps   = eps_p + sigma/E
-//
-// preceded by the elastic line up to sy. References: P. J. Armstrong and
-// C. O. Frederick, CEGB report RD/B/N731, 1966 (the law); J. Lemaitre and
-// J.-L. Chaboche, Mechanics of Solid Materials, 1990, ch. 5 (its uniaxial
-// integral; from memory); W. Prager, J. Appl. Mech. 23, 1956 (gamma = 0).
+// monotonicAF is the closed-form monotonic tension curve (see tension) of
+// one Armstrong-Frederick term C, gamma (gamma = 0: a linear Prager term,
+// C = H), yield sy and modulus E in any one stress unit, to the plastic
+// strain epsPMax in n steps.
 func monotonicAF(E, sy, C, gamma, epsPMax float64, n int) [][2]float64 {
-	pts := [][2]float64{{0, 0}, {sy / E, sy}}
-	for k := 1; k <= n; k++ {
-		ep := epsPMax * float64(k) / float64(n)
-		s := sy + C*ep
-		if gamma > 0 {
-			s = sy + C/gamma*(-math.Expm1(-gamma*ep))
-		}
-		pts = append(pts, [2]float64{ep + s/E, s})
+	m, err := plastic.NewMaterial(E, 0.3, sy, []plastic.Term{{C: C, Gamma: gamma}}, plastic.Isotropic{})
+	if err != nil {
+		panic(err) // the test's own parameters
 	}
-	return pts
+	return tension(&m, epsPMax, n)
 }
 
 func scaleStress(pts [][2]float64, k float64) [][2]float64 {
