@@ -109,7 +109,8 @@ const (
 	// (stress control), counted where the case resolves it at the
 	// profile's increments (the middle cycles of the strain-controlled
 	// cycling cases run at two increments a branch and count 4 increments
-	// a cycle instead; see cyclicWork, ratchetWork and referenceStep). At
+	// a cycle instead; see cyclicWork and ratchetWork; reference curves
+	// have their own budget, MaxReplayIncrements). At
 	// the strict profile's 40 increments a yield strain it is 200,000
 	// increments a run (the half-increment rerun twice that); the time and
 	// memory of a card at every limit are measured by BenchmarkSizingLimit.
@@ -241,7 +242,6 @@ func (s Spec) Resolve() (Spec, error) {
 		case r.Tol < 0 || !finite(r.Tol):
 			return bad(f+".Tol", r.Tol, "must be >= 0")
 		}
-		path := 0.0
 		for j, p := range r.Points {
 			if !finite(p[0]) || !finite(p[1]) {
 				return bad(fmt.Sprintf("%s.Points[%d]", f, j), p[0]+p[1], "not finite")
@@ -249,12 +249,6 @@ func (s Spec) Resolve() (Spec, error) {
 			if r.Control == "stress" && math.Abs(p[1]) >= m.SaturationStress() {
 				return bad(fmt.Sprintf("%s.Points[%d]", f, j), p[1], "stress beyond the saturation stress")
 			}
-			if j > 0 {
-				path += referenceStep(r.Points[j-1], p, r.Control == "stress", epsY, m.SigmaY)
-			}
-		}
-		if err := work(f+".Points", float64(len(r.Points)), path); err != nil {
-			return s, err
 		}
 		if r.Tol == 0 {
 			r.Tol = DefaultSolverTol
@@ -286,16 +280,6 @@ func cyclicWork(eMax, amp float64) float64 { return eMax + 12*amp }
 // resolved: the first loading to the peak, then 4 amplitudes a cycle.
 func ratchetWork(mean, amp float64, cycles int) float64 {
 	return math.Abs(mean) + amp + 4*amp*float64(cycles)
-}
-
-// referenceStep is the path between two points of a reference curve, in
-// yield strains under strain control and yield stresses under stress
-// control.
-func referenceStep(a, b [2]float64, stress bool, epsY, sigmaY float64) float64 {
-	if stress {
-		return math.Abs(b[1]-a[1]) / sigmaY
-	}
-	return math.Abs(b[0]-a[0]) / epsY
 }
 
 // ratchetPeakStrain returns the largest |strain| of the ratcheting path

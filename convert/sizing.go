@@ -29,7 +29,8 @@ const (
 // card states and that would leave small strain or exceed the work budget,
 // with the numbers; n is the card's canonical form (SI, defaults written
 // out). The defaults keep within both limits by construction (Defaults),
-// so only stated values are diagnosed.
+// so only stated values are diagnosed. Reference curves have their own
+// budget (checks.MaxReplayIncrements), which verify reports.
 func Sizing(doc *schema.Document, n *schema.Card) schema.Diagnostics {
 	given, v := doc.Card.Verification, n.Verification
 	if given == nil || v == nil {
@@ -78,18 +79,6 @@ func Sizing(doc *schema.Document, n *schema.Card) schema.Diagnostics {
 				add("/verification/ratcheting", "the ratcheting case reaches a strain of %.4g after %d cycles, beyond the small-strain limit %g of the reference integrator: lower the mean stress, the amplitude or the cycles", peak, r.Cycles, MaxStrain)
 			}
 		}
-	}
-	for i, r := range v.References {
-		path, stress := 0.0, r.Control == schema.ControlStress
-		for j := 1; j < len(r.Points); j++ {
-			a, b := r.Points[j-1], r.Points[j]
-			if stress {
-				path += math.Abs(b[1]-a[1]) / n.Plasticity.YieldStress
-			} else {
-				path += math.Abs(b[0]-a[0]) / epsY
-			}
-		}
-		overWork(fmt.Sprintf("/verification/references/%d", i), fmt.Sprintf("reference %q", r.Name), path, stress)
 	}
 	return ds
 }
