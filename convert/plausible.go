@@ -169,10 +169,11 @@ func Plausibility(doc *schema.Document) schema.Diagnostics {
 		return ds
 	}
 	if m := v.MonotonicStrain; m != nil {
-		strainBounds(add, "/verification/monotonic_strain", "monotonic strain", *m, epsY, sane, "the tension stays elastic")
+		// An error: the monotonic cases compare the plastic branch.
+		strainBounds(add, "/verification/monotonic_strain", "monotonic strain", *m, epsY, sane, schema.SeverityError, "the tension stays elastic and has nothing to verify")
 	}
 	for i, a := range v.StrainAmplitudes {
-		strainBounds(add, fmt.Sprintf("/verification/strain_amplitudes/%d", i), "strain amplitude", a, epsY, sane, "the cycle stays elastic")
+		strainBounds(add, fmt.Sprintf("/verification/strain_amplitudes/%d", i), "strain amplitude", a, epsY, sane, schema.SeverityWarning, "the cycle stays elastic")
 	}
 	if !sane {
 		return ds
@@ -188,8 +189,13 @@ func Plausibility(doc *schema.Document) schema.Diagnostics {
 	}
 	for i, r := range v.References {
 		for j, p := range r.Points {
+			pointer := fmt.Sprintf("/verification/references/%d/points/%d/1", i, j)
 			if math.Abs(p[1]) > idealStrength*E {
-				add(schema.SeverityError, fmt.Sprintf("/verification/references/%d/points/%d/1", i, j), "stress %g %s is above E/10 = %g %s, the ideal strength of a perfect crystal: no metal carries it; is the curve in another unit than the card?", p[1], unit, idealStrength*E, unit)
+				add(schema.SeverityError, pointer, "stress %g %s is above E/10 = %g %s, the ideal strength of a perfect crystal: no metal carries it; is the curve in another unit than the card?", p[1], unit, idealStrength*E, unit)
+				break
+			}
+			if r.Control == schema.ControlStress && d.SaturationStress != nil && math.Abs(p[1]) >= *d.SaturationStress {
+				add(schema.SeverityError, pointer, "stress %g %s of a stress-controlled curve is not below the saturation stress %g %s: stress control has no solution", p[1], unit, *d.SaturationStress, unit)
 				break
 			}
 		}
@@ -197,15 +203,16 @@ func Plausibility(doc *schema.Document) schema.Diagnostics {
 	return ds
 }
 
-// strainBounds adds the diagnostics of a verification strain eps against
-// one microstrain and, when the card is sane (see Plausibility), the yield
+// strainBounds adds the diagnostics of a verification strain eps: an
+// error below one microstrain and, when the card is sane (see
+// Plausibility), one of severity sev when it does not exceed the yield
 // strain epsY.
-func strainBounds(add func(schema.Severity, string, string, ...any), pointer, what string, eps, epsY float64, sane bool, elastic string) {
+func strainBounds(add func(schema.Severity, string, string, ...any), pointer, what string, eps, epsY float64, sane bool, sev schema.Severity, elastic string) {
 	switch {
 	case eps < minStrain:
 		add(schema.SeverityError, pointer, "%s %g is below one microstrain (%g), the resolution of strain gauges: no test imposes it", what, eps, minStrain)
 	case sane && eps <= epsY:
-		add(schema.SeverityWarning, pointer, "%s %g is not above the yield strain %.3g: %s", what, eps, epsY, elastic)
+		add(sev, pointer, "%s %g is not above the yield strain %.3g: %s", what, eps, epsY, elastic)
 	}
 }
 
