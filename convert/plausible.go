@@ -88,13 +88,14 @@ const (
 	negligible = 1e-3
 )
 
-// HardeningPlausible reports whether a saturating hardening h (an
+// MaxHardening returns the largest saturating hardening h (an
 // Armstrong-Frederick term's c/gamma, Voce's q, or their sum) on top of
-// the yield stress sy draws no saturation diagnostic for Young's modulus
-// E (all three in one unit): sy + h at most 0.02 E and h at most 20 sy.
-// convert/fit keeps its parameters inside this bound.
-func HardeningPlausible(E, sy, h float64) bool {
-	return sy+h <= strongest*E && h <= maxHardening*sy
+// the yield stress sy that draws no saturation diagnostic for Young's
+// modulus E (all three in one unit): sy + h at most 0.02 E and h at most
+// 20 sy. convert/fit keeps its parameters inside it. Negative when sy
+// itself is above 0.02 E.
+func MaxHardening(E, sy float64) float64 {
+	return math.Min(strongest*E-sy, maxHardening*sy)
 }
 
 // Plausibility returns the errors and warnings about a card that passed the
@@ -363,7 +364,7 @@ func judgeHardening(E, sy, h float64, unit string) (schema.Severity, string) {
 // draws no diagnostic of its own on a card with E and yield stress sy.
 func termPlausible(E, sy, C, gamma float64) bool {
 	s := C / gamma
-	return gamma <= MaxRate && s >= negligible*sy && HardeningPlausible(E, sy, s)
+	return gamma <= MaxRate && s >= negligible*sy && s <= MaxHardening(E, sy)
 }
 
 // likelyUnit returns the stress unit in which a modulus written as the bare
