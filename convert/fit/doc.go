@@ -5,7 +5,7 @@
 // (Gauss-Newton steps through optimize.Newton with the Hessian J^T J).
 // Positivity is kept by fitting logarithms, and the saturations inside the
 // plausible bound of convert.MaxHardening, so that a fitted card passes
-// check; start values come from closed forms. A fit shows that a card reproduces its data; it does not show
-// fitness for design, which stays with the applicable codes and licensed
-// engineers.
+// check; start values come from closed forms. A fit shows that a card
+// reproduces its data; it does not show fitness for design, which stays
+// with the applicable codes and licensed engineers.
 package fit
