@@ -138,3 +138,55 @@ func TestExtremeValues(t *testing.T) {
 	}
 	t.Logf("%d variants", n)
 }
+
+// FuzzPrepare runs any input through Decode, Prepare and Tables (see
+// prepareAll). Seeds are the cards under testdata and their extreme
+// variants; run it with
+//
+//	go test -run='^$' -fuzz=FuzzPrepare -fuzztime=3m ./convert
+func FuzzPrepare(f *testing.F) {
+	for _, name := range seedCards(f) {
+		data, err := os.ReadFile(name)
+		if err != nil {
+			f.Fatal(err)
+		}
+		f.Add(data)
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		prepareAll(t, "fuzz.yaml", data, "../testdata/bad/plausible")
+	})
+}
+
+// FuzzPrepareNumbers fills the numbers of a card with every model (two
+// Armstrong-Frederick terms, a linear term, Voce, a ratcheting case and a
+// reference) from the fuzzer, so that it explores values rather than
+// syntax, and runs it through prepareAll.
+//
+//	go test -run='^$' -fuzz=FuzzPrepareNumbers -fuzztime=3m ./convert
+func FuzzPrepareNumbers(f *testing.F) {
+	f.Add(uint8(2), 200000.0, 0.3, 300.0, 50000.0, 500.0, 5000.0, 50.0, 2000.0, 60.0, 6.0, 0.004, 40.0, 320.0, 20, 0.01, 420.0)
+	f.Add(uint8(0), 2e11, 0.3, 3e8, 5e10, 2.0, 300.0, 5e4, 2e9, 6e7, 1e-300, 5e-324, 1e300, 1e300, 10000, 1e300, 1e300)
+	f.Fuzz(func(t *testing.T, unit uint8, E, nu, sy, c1, g1, c2, g2, H, q, b, amp, mean, sa float64, cycles int, eps, sig float64) {
+		card := fmt.Sprintf(`format: matgate.card/1
+id: fuzz
+revision: 1
+title: fuzz
+source: fuzz
+units: {stress: %s}
+elastic: {youngs_modulus: %g, poisson_ratio: %g}
+plasticity:
+  yield_stress: %g
+  kinematic:
+    - {model: armstrong_frederick, c: %g, gamma: %g}
+    - {model: armstrong_frederick, c: %g, gamma: %g}
+    - {model: linear, plastic_modulus: %g}
+  isotropic: {model: voce, q: %g, b: %g}
+verification:
+  strain_amplitudes: [%g]
+  ratcheting: {mean_stress: %g, stress_amplitude: %g, cycles: %d}
+  references:
+    - {name: r, kind: solver, points: [[0, 0], [%g, %g]]}
+`, convert.StressUnits[int(unit)%len(convert.StressUnits)], E, nu, sy, c1, g1, c2, g2, H, q, b, amp, mean, sa, cycles, eps, sig)
+		prepareAll(t, "fuzz.yaml", []byte(card), ".")
+	})
+}

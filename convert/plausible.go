@@ -86,6 +86,10 @@ const (
 	// scatter of a test (common practice, no source): it does nothing,
 	// and usually c and gamma are swapped.
 	negligible = 1e-3
+	// smallStrain is the plastic strain over which a linear term's
+	// contribution H eps_p is judged negligible: 10 %, the end of small
+	// strain for metals (common practice, no source).
+	smallStrain = 0.1
 )
 
 // MaxHardening returns the largest saturating hardening h (an
@@ -268,10 +272,11 @@ func stressBounds(doc *schema.Document, f float64) schema.Diagnostics {
 	return ds
 }
 
-// saturation returns the diagnostics of the saturating hardening of a card
-// whose E and yield stress are plausible: each Armstrong-Frederick term's
-// saturation c/gamma and rate gamma, Voce's q and b, and their sum, against
-// the yield stress and E (see the limits above). A term that looks
+// saturation returns the diagnostics of the hardening of a card whose E and
+// yield stress are plausible: each Armstrong-Frederick term's saturation
+// c/gamma and rate gamma, Voce's q and b, and their sum, against the yield
+// stress and E (see the limits above), and a linear term too weak to
+// matter. A term that looks
 // misread gets the corrected readings that make it plausible: gamma given
 // per percent strain (100 times too small) and c and gamma swapped.
 func saturation(doc *schema.Document) schema.Diagnostics {
@@ -282,6 +287,19 @@ func saturation(doc *schema.Document) schema.Diagnostics {
 	flagged := false // a part is above a limit: the sum is not reported again
 	sum := 0.0
 	for i, t := range c.Plasticity.Kinematic {
+		if t.Model == schema.ModelLinear {
+			H := 0.0
+			switch {
+			case t.PlasticModulus != nil:
+				H = *t.PlasticModulus
+			case t.TangentModulus != nil:
+				H = TangentToPlastic(E, *t.TangentModulus)
+			}
+			if H*smallStrain < negligible*sy {
+				ds = append(ds, doc.Diag(schema.SeverityWarning, fmt.Sprintf("/plasticity/kinematic/%d", i), "plastic modulus H = %.6g %s adds %.3g %s within a plastic strain of %g, below %g %% of the yield stress: the term does nothing", H, unit, H*smallStrain, unit, smallStrain, 100*negligible))
+			}
+			continue
+		}
 		if t.C == nil || t.Gamma == nil {
 			continue
 		}
