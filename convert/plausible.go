@@ -15,18 +15,18 @@ import (
 // and vol. 1 property tables) and of published Chaboche fits, common
 // practice with no single source unless one is named.
 const (
-	// Young's modulus of structural metals lies between about 40 GPa
-	// (magnesium alloys, 45 GPa) and about 410 GPa (tungsten); 5 GPa and
-	// 700 GPa leave a wide margin and still catch a unit slip, which is a
-	// factor of 1e3 or more.
-	minMetalE = 5e9
-	maxMetalE = 7e11
+	// MinMetalE and MaxMetalE, in Pa: Young's modulus of structural metals
+	// lies between about 40 GPa (magnesium alloys, 45 GPa) and about 410
+	// GPa (tungsten); 5 GPa and 700 GPa leave a wide margin and still catch
+	// a unit slip, which is a factor of 1e3 or more.
+	MinMetalE = 5e9
+	MaxMetalE = 7e11
 	// maxStressPa bounds every other stress-like value (moduli, c, stresses)
 	// at 100 times the stiffest metal's E. The fastest Armstrong-Frederick
 	// terms of published fits have c of a few times E (from memory); no
 	// value of a metal comes near 70 TPa, and the bound keeps every
 	// conversion to Pa and every derived value finite.
-	maxStressPa = 100 * maxMetalE
+	maxStressPa = 100 * MaxMetalE
 	// Yield strain of metals: high-strength steels and titanium alloys reach
 	// about 0.01; above 0.05 the yield stress or E is wrong.
 	maxYieldStrain = 0.05
@@ -48,7 +48,7 @@ const (
 	// after a plastic strain of 3/gamma (exp(-3) = 0.05); saturation within
 	// 1e-5, gamma > 3e5, is a step, not hardening: usually c and gamma
 	// swapped. The fastest terms of published Chaboche fits have gamma of
-	// a few thousand (from memory).
+	// a few thousand, rarely 1e4 or more (from memory).
 	MaxRate = 3 / 1e-5
 	// Poisson's ratio of structural metals lies between about 0.25
 	// (beryllium is lower, 0.03, but is no structural metal here) and
@@ -119,9 +119,9 @@ func Plausibility(doc *schema.Document) schema.Diagnostics {
 	unit := c.Units.Stress
 	E := c.Elastic.YoungsModulus
 	ESI := E * f
-	plausibleE := ESI >= minMetalE && ESI <= maxMetalE
+	plausibleE := ESI >= MinMetalE && ESI <= MaxMetalE
 	if !plausibleE {
-		msg := fmt.Sprintf("Young's modulus %g %s is %.3g GPa, outside the range of metals (%g to %g GPa)", E, unit, ESI/1e9, minMetalE/1e9, maxMetalE/1e9)
+		msg := fmt.Sprintf("Young's modulus %g %s is %.3g GPa, outside the range of metals (%g to %g GPa)", E, unit, ESI/1e9, MinMetalE/1e9, MaxMetalE/1e9)
 		if u := likelyUnit(E); u != "" {
 			msg += fmt.Sprintf("; the card is almost surely written in %s, not %s", u, unit)
 		}
@@ -390,7 +390,7 @@ func termPlausible(E, sy, C, gamma float64) bool {
 func likelyUnit(E float64) string {
 	found := ""
 	for _, u := range StressUnits {
-		if v := E * stressFactors[u]; v >= minMetalE && v <= maxMetalE {
+		if v := E * stressFactors[u]; v >= MinMetalE && v <= MaxMetalE {
 			if found != "" {
 				return ""
 			}

@@ -251,6 +251,13 @@ func Fit(ctx context.Context, data []Data, opts Options) (*Result, error) {
 	} else if !(E > 0) || math.IsInf(E, 0) {
 		return nil, fmt.Errorf("fit: Young's modulus %g: must be positive and finite", E)
 	}
+	if E < convert.MinMetalE || E > convert.MaxMetalE {
+		how := "given"
+		if res.EEstimated {
+			how = "estimated from the initial slope"
+		}
+		return nil, fmt.Errorf("%w: Young's modulus %.4g Pa (%s) is outside the range of metals (%g to %g GPa): are the stresses in the stated unit?", ErrBadData, E, how, convert.MinMetalE/1e9, convert.MaxMetalE/1e9)
+	}
 	p := newProblem(ctx, m, E, res.Nu, data)
 	res.Peak = p.scale
 	x0 := startValues(m, E, data)

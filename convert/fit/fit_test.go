@@ -227,6 +227,9 @@ func TestBadData(t *testing.T) {
 		{"unsorted", []Data{{Name: "a.csv", Points: shuffled}}, "a.csv: the strain reverses at 6 of 8 rows"},
 		{"too few points", []Data{{Name: "a.csv", Points: good[:3]}}, "3 points cannot determine the 3 parameters"},
 		{"no slope", []Data{{Name: "a.csv", Points: [][2]float64{{0, 0}, {0.001, 200e6}, {0.0005, 100e6}, {0.002, 300e6}, {0.003, 300e6}}}}, "cannot estimate Young's modulus"},
+		// Stresses in MPa read as Pa: a slope of about 200 kPa (issue 9: no card
+		// that check refuses).
+		{"stress unit", []Data{{Name: "a.csv", Points: [][2]float64{{0, 0}, {0.001, 200}, {0.002, 300}, {0.004, 320}, {0.006, 330}}}}, "(estimated from the initial slope) is outside the range of metals"},
 	}
 	for _, tc := range cases {
 		model := Model{Terms: 1}
