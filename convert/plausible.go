@@ -163,7 +163,7 @@ func Plausibility(doc *schema.Document) schema.Diagnostics {
 	}
 	var d schema.Derived
 	if sane {
-		ds = append(ds, saturation(doc)...)
+		ds = append(ds, hardening(doc)...)
 		d = Derive(c)
 		if d.SaturationStress != nil && *d.SaturationStress < sy {
 			add(schema.SeverityWarning, "/plasticity", "saturation stress yield_stress + sum c/gamma + q = %g %s is below the yield stress %g %s: the card softens overall", *d.SaturationStress, unit, sy, unit)
@@ -272,14 +272,14 @@ func stressBounds(doc *schema.Document, f float64) schema.Diagnostics {
 	return ds
 }
 
-// saturation returns the diagnostics of the hardening of a card whose E and
-// yield stress are plausible: each Armstrong-Frederick term's saturation
-// c/gamma and rate gamma, Voce's q and b, and their sum, against the yield
-// stress and E (see the limits above), and a linear term too weak to
-// matter. A term that looks
-// misread gets the corrected readings that make it plausible: gamma given
-// per percent strain (100 times too small) and c and gamma swapped.
-func saturation(doc *schema.Document) schema.Diagnostics {
+// hardening returns the diagnostics of the hardening of a card whose E
+// and yield stress are plausible: each Armstrong-Frederick term's
+// saturation c/gamma and rate gamma, Voce's q and b, and their sum,
+// against the yield stress and E (see the limits above), and a linear term
+// too weak to matter. A term that looks misread gets the corrected
+// readings that make it plausible: gamma given per percent strain (100
+// times too small) and c and gamma swapped.
+func hardening(doc *schema.Document) schema.Diagnostics {
 	c := doc.Card
 	unit := c.Units.Stress
 	E, sy := c.Elastic.YoungsModulus, c.Plasticity.YieldStress
@@ -309,9 +309,6 @@ func saturation(doc *schema.Document) schema.Diagnostics {
 		p := fmt.Sprintf("/plasticity/kinematic/%d", i)
 		subject := fmt.Sprintf("saturation c/gamma = %g/%g = %.6g %s", C, g, s, unit)
 		sev, reason := judgeHardening(E, sy, s, unit)
-		if reason == "" {
-			sev = schema.SeverityWarning // the reasons below are warnings
-		}
 		var reasons []string
 		if reason != "" {
 			reasons = append(reasons, subject+" "+reason)
@@ -365,7 +362,7 @@ func saturation(doc *schema.Document) schema.Diagnostics {
 
 // judgeHardening returns the severity of a saturating hardening h on top
 // of the yield stress sy, for Young's modulus E (all in unit), and the
-// reason as the end of a sentence; "" when it is plausible.
+// reason as the end of a sentence; a warning and "" when it is plausible.
 func judgeHardening(E, sy, h float64, unit string) (schema.Severity, string) {
 	switch top := sy + h; {
 	case !(top <= idealStrength*E): // also NaN and Inf
@@ -375,7 +372,7 @@ func judgeHardening(E, sy, h float64, unit string) (schema.Severity, string) {
 	case h > maxHardening*sy:
 		return schema.SeverityWarning, fmt.Sprintf("is %.3g times the yield stress %g %s, above %d: more strain hardening than any metal shows", h/sy, sy, unit, maxHardening)
 	}
-	return schema.SeverityError, ""
+	return schema.SeverityWarning, ""
 }
 
 // termPlausible reports whether an Armstrong-Frederick term (c, gamma)
