@@ -11,8 +11,6 @@ import (
 	"fmt"
 	"strings"
 	"time"
-
-	"github.com/gowebpki/jcs"
 )
 
 // RecordFormat is the format name of a verification record.
@@ -112,7 +110,7 @@ func (r *Record) ComputeDigest() (string, error) {
 	if err != nil {
 		return "", fmt.Errorf("%w: encode: %w", ErrBadRecord, err)
 	}
-	canon, err := jcs.Transform(b)
+	canon, err := canonicalJSON(b)
 	if err != nil {
 		return "", fmt.Errorf("%w: canonicalize: %w", ErrBadRecord, err)
 	}
