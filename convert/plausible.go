@@ -194,13 +194,11 @@ func Plausibility(doc *schema.Document) schema.Diagnostics {
 	}
 	for i, r := range v.References {
 		for j, p := range r.Points {
-			pointer := fmt.Sprintf("/verification/references/%d/points/%d/1", i, j)
-			if math.Abs(p[1]) > idealStrength*E {
-				add(schema.SeverityError, pointer, "stress %g %s is above E/10 = %g %s, the ideal strength of a perfect crystal: no metal carries it; is the curve in another unit than the card?", p[1], unit, idealStrength*E, unit)
-				break
-			}
+			// A strain-controlled curve in another stress unit is left to
+			// verification, whose diagnosis names the unit (worker.Diagnose),
+			// for inline points and files alike.
 			if r.Control == schema.ControlStress && d.SaturationStress != nil && math.Abs(p[1]) >= *d.SaturationStress {
-				add(schema.SeverityError, pointer, "stress %g %s of a stress-controlled curve is not below the saturation stress %g %s: stress control has no solution", p[1], unit, *d.SaturationStress, unit)
+				add(schema.SeverityError, fmt.Sprintf("/verification/references/%d/points/%d/1", i, j), "stress %g %s of a stress-controlled curve is not below the saturation stress %g %s: stress control has no solution", p[1], unit, *d.SaturationStress, unit)
 				break
 			}
 		}
