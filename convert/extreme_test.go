@@ -6,7 +6,6 @@ import (
 	"os"
 	"path/filepath"
 	"runtime/debug"
-	"strings"
 	"testing"
 	"time"
 
@@ -112,10 +111,12 @@ func prepareAll(t *testing.T, name string, data []byte, dir string) {
 		}
 		return
 	}
-	ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
+	// A bound on a runaway, not a timing: the tables of any card take
+	// milliseconds.
+	ctx, cancel := context.WithTimeout(context.Background(), time.Minute)
 	defer cancel()
-	if _, err := convert.Tables(ctx, card); err != nil && strings.Contains(err.Error(), "context deadline") {
-		t.Errorf("%s: tables take more than 10 s\ncard:\n%s", name, data)
+	if _, err := convert.Tables(ctx, card); err != nil && ctx.Err() != nil {
+		t.Errorf("%s: tables take more than a minute\ncard:\n%s", name, data)
 	}
 }
 
@@ -140,8 +141,7 @@ func TestExtremeValues(t *testing.T) {
 }
 
 // FuzzPrepare runs any input through Decode, Prepare and Tables (see
-// prepareAll). Seeds are the cards under testdata and their extreme
-// variants; run it with
+// prepareAll). Seeds are the cards under testdata; run it with
 //
 //	go test -run='^$' -fuzz=FuzzPrepare -fuzztime=3m ./convert
 func FuzzPrepare(f *testing.F) {
