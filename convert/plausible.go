@@ -81,14 +81,15 @@ const (
 	// a smaller offset double that. Twenty times the yield stress is more
 	// strain hardening than any metal shows: a warning.
 	maxHardening = 20
-	// negligible: a term whose saturation is below 0.1 % of the yield
-	// stress changes no stress by more than a tenth of the usual 1 %
-	// scatter of a test (common practice, no source): it does nothing,
-	// and usually c and gamma are swapped.
+	// negligible: a term that adds less than 0.1 % of the yield stress
+	// within small strain (smallStrain) changes no stress by more than a
+	// tenth of the usual 1 % scatter of a test (common practice, no
+	// source): it does nothing; usually c and gamma are swapped, or a term
+	// that never saturates has a c far too small.
 	negligible = 1e-3
-	// smallStrain is the plastic strain over which a linear term's
-	// contribution H eps_p is judged negligible: 10 %, the end of small
-	// strain for metals (common practice, no source).
+	// smallStrain is the plastic strain over which a term's contribution
+	// is judged negligible: 10 %, the end of small strain for metals
+	// (common practice, no source).
 	smallStrain = 0.1
 )
 
@@ -312,8 +313,12 @@ func hardening(doc *schema.Document) schema.Diagnostics {
 			reasons = append(reasons, subject+" "+reason)
 			flagged = true
 		}
-		if s < negligible*sy {
-			reasons = append(reasons, fmt.Sprintf("%s is below %g %% of the yield stress: the term does nothing", subject, 100*negligible))
+		if r := reach(C, g); r < negligible*sy {
+			of := subject
+			if r < 0.99*s { // the term does not saturate within small strain
+				of = fmt.Sprintf("%s, of which the term reaches %.3g %s within a plastic strain of %g,", subject, r, unit, smallStrain)
+			}
+			reasons = append(reasons, fmt.Sprintf("%s is below %g %% of the yield stress: the term does nothing", of, 100*negligible))
 		}
 		if g > MaxRate {
 			reasons = append(reasons, fmt.Sprintf("gamma %g saturates the term within a plastic strain of %.2g (3/gamma), below 1e-5: a step, not hardening", g, 3/g))
@@ -376,8 +381,20 @@ func judgeHardening(E, sy, h float64, unit string) (schema.Severity, string) {
 // termPlausible reports whether an Armstrong-Frederick term (c, gamma)
 // draws no diagnostic of its own on a card with E and yield stress sy.
 func termPlausible(E, sy, C, gamma float64) bool {
-	s := C / gamma
-	return gamma <= MaxRate && s >= negligible*sy && s <= MaxHardening(E, sy)
+	return gamma <= MaxRate && reach(C, gamma) >= negligible*sy && C/gamma <= MaxHardening(E, sy)
+}
+
+// reach returns the back stress an Armstrong-Frederick term reaches from
+// zero over a monotonic plastic strain of smallStrain,
+//
+//	alpha = (c/gamma) (1 - exp(-gamma eps_p)),
+//
+// the branch solution of d alpha = c d eps_p - gamma alpha d eps_p
+// (Armstrong and Frederick, 1966; Lemaitre and Chaboche, Mechanics of
+// Solid Materials, 1990, ch. 5, from memory). Written with expm1 so that a
+// term with gamma eps_p << 1 gives c eps_p to full precision.
+func reach(C, gamma float64) float64 {
+	return -C / gamma * math.Expm1(-gamma*smallStrain)
 }
 
 // likelyUnit returns the stress unit in which a modulus written as the bare
