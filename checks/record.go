@@ -29,7 +29,7 @@ type Record struct {
 	Settings  Settings   `json:"settings"`
 	Cases     []Case     `json:"cases"`
 	Verdict   string     `json:"verdict"`
-	Findings  []string   `json:"findings,omitempty"` // see Result.Findings
+	Findings  []Finding  `json:"findings,omitempty"` // see Result.Findings
 	Caution   string     `json:"caution"`
 	Digest    string     `json:"digest,omitempty"`    // "sha256:" + hex
 	Signature *Signature `json:"signature,omitempty"` //
