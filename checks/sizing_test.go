@@ -31,6 +31,7 @@ func TestSpecSizingLimits(t *testing.T) {
 		field string
 	}{
 		{"monotonic strain beyond 10 %", Spec{Material: af, MonotonicStrain: 0.15}, "MonotonicStrain"},
+		{"strain amplitude below one microstrain (its increments underflowed to zero)", Spec{Material: af, StrainAmplitudes: []float64{5e-324, 0.005}}, "StrainAmplitudes[0]"},
 		{"strain amplitude beyond 10 %", Spec{Material: af, StrainAmplitudes: []float64{0.005, 0.12}}, "StrainAmplitudes[1]"},
 		{"relaxation beyond 10 %", Spec{Material: af, Relaxation: &Relaxation{MeanStrain: 0.06, StrainAmplitude: 0.05}}, "Relaxation"},
 		// One AF term (a = 200 MPa) cycled between -240 and 440 MPa:

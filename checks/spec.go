@@ -117,6 +117,12 @@ const (
 	// Our choice, no source: 250 times the default monotonic case (20
 	// yield strains).
 	MaxPathYields = 5000
+	// MinStrain bounds strain amplitudes from below: one microstrain, the
+	// resolution of strain gauges and extensometers (common practice, no
+	// source; convert's plausibility refuses the same on cards). Below it
+	// the increments of a cycle (a fortieth of the strain range and less)
+	// approach the smallest floats: an amplitude of 5e-324 made them zero.
+	MinStrain = 1e-6
 )
 
 // ErrInvalidSpec is wrapped by every *SpecError.
@@ -174,8 +180,8 @@ func (s Spec) Resolve() (Spec, error) {
 	}
 	for i, a := range s.StrainAmplitudes {
 		f := fmt.Sprintf("StrainAmplitudes[%d]", i)
-		if !finite(a) || a <= 0 || a > MaxStrain {
-			return bad(f, a, fmt.Sprintf("must be in (0, %g], the small-strain limit", MaxStrain))
+		if !finite(a) || a < MinStrain || a > MaxStrain {
+			return bad(f, a, fmt.Sprintf("must be in [%g, %g], from one microstrain to the small-strain limit", MinStrain, MaxStrain))
 		}
 		if err := work(f, a, cyclicWork(a, a)/epsY); err != nil {
 			return s, err
@@ -197,8 +203,8 @@ func (s Spec) Resolve() (Spec, error) {
 	if s.Relaxation.Cycles == 0 {
 		s.Relaxation.Cycles = s.Cycles
 	}
-	if r := s.Relaxation; !finite(r.MeanStrain) || !finite(r.StrainAmplitude) || r.StrainAmplitude <= 0 || math.Abs(r.MeanStrain)+r.StrainAmplitude > MaxStrain || r.Cycles < 2 || r.Cycles > 10000 {
-		return bad("Relaxation", r.StrainAmplitude, fmt.Sprintf("needs amplitude > 0, |mean| + amplitude <= %g (the small-strain limit) and 2..10000 cycles", MaxStrain))
+	if r := s.Relaxation; !finite(r.MeanStrain) || !finite(r.StrainAmplitude) || r.StrainAmplitude < MinStrain || math.Abs(r.MeanStrain)+r.StrainAmplitude > MaxStrain || r.Cycles < 2 || r.Cycles > 10000 {
+		return bad("Relaxation", r.StrainAmplitude, fmt.Sprintf("needs amplitude >= %g, |mean| + amplitude <= %g (the small-strain limit) and 2..10000 cycles", MinStrain, MaxStrain))
 	} else if err := work("Relaxation", r.StrainAmplitude, cyclicWork(math.Abs(r.MeanStrain)+r.StrainAmplitude, r.StrainAmplitude)/epsY); err != nil {
 		return s, err
 	}
