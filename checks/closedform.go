@@ -64,8 +64,9 @@ func monotonicAt(m *plastic.Material, eps float64) (sigma, epsP float64, err err
 // negative up to the largest finite trial point, or turns NaN.
 var errNoBracket = errors.New("closed-form reference cannot be computed: no sign change of the equation")
 
-// findRoot returns the root of an increasing g with g(lo) <= 0, to the
-// last bit, or an error wrapping errNoBracket. The upper end of the
+// findRoot returns the root of an increasing g with g(lo) <= 0 (for a g
+// that dips first, the crossing from below in the first bracket found), to
+// the last bit, or an error wrapping errNoBracket. The upper end of the
 // bracket starts at hi (lo + 1e-12 when hi <= lo) and, while g(hi) < 0,
 // moves up by a width that doubles every time (lo takes the old hi), so a
 // root at distance D from lo is bracketed after about log2(D/(hi - lo))
@@ -179,9 +180,13 @@ var errBeyondSaturation = errors.New("stress target beyond the saturation stress
 //	                        linear K (p0 dp + dp^2/2).
 //
 // A branch to a strain target solves eps_p + sigma/E = eps_target for dp,
-// to a stress target sigma = sigma_target; both are increasing in dp (the
-// plastic modulus exceeds -E, a plastic.NewMaterial precondition) and are
-// solved by bisection, independently of the integrator's iteration.
+// which is increasing in dp (the plastic modulus exceeds -E, a
+// plastic.NewMaterial precondition); a branch to a stress target solves
+// sigma = sigma_target, increasing in dp where the plastic modulus is
+// positive (a softening card dips first, and the root is the crossing past
+// the dip, which the stress-controlled increments reach too: solveStress).
+// Both are solved by findRoot, independently of the integrator's
+// iteration.
 
 func branchAt(m *plastic.Material, s *tip, n, dp float64) (out tip) {
 	out = *s
