@@ -69,7 +69,7 @@ type Conflict struct {
 func (c Conflict) Message() string {
 	switch c.Rule {
 	case RuleDuplicateRevision:
-		return fmt.Sprintf("card %s revision %d is also in %s with other content (digest %s there, %s here): one content per id and revision; give the changed card a new revision",
+		return fmt.Sprintf("card %s revision %d is also in %s with other content (digest %s there, %s here): one content per id and revision: give one of them a new revision",
 			c.Card.ID, c.Card.Revision, c.Other.where(), c.Other.Digest, c.Card.Digest)
 	case RuleUnbumpedRevision:
 		return fmt.Sprintf("card %s revision %d has a stored record %s (created %s) of other content (digest %s there, %s here): a changed card needs a new revision, above %d",

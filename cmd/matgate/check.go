@@ -32,7 +32,8 @@ the content of a stored id and revision, nor go below the latest stored
 revision of its id. The store is only read.
 
 A directory stands for every .yaml, .yml and .json file below it, leaving
-out hidden files and folders, records directories and ./matgate-out.
+out hidden files and folders, records directories and folders named
+matgate-out (verify's outputs).
 Cards are checked on --jobs cores; the output is in the order of the
 inputs, the same for any --jobs.
 
@@ -61,7 +62,7 @@ rule (warnings fail only with --strict), 3 when the store cannot be read.`,
 			} else {
 				lib = worker.NewLibrary(nil)
 			}
-			names, err := expandInputs(args, defaultOutDir)
+			names, err := expandInputs(args)
 			if err != nil {
 				return err
 			}

@@ -19,7 +19,7 @@ import (
 var cardExtensions = map[string]bool{".yaml": true, ".yml": true, ".json": true}
 
 // defaultOutDir is where verify and submit write unless --out says
-// otherwise; a walk skips it (see expandInputs).
+// otherwise; a walk skips every folder of this name (see expandInputs).
 const defaultOutDir = "matgate-out"
 
 // expandInputs turns FILE|DIR|- arguments into card names: "-" is stdin, a
@@ -29,9 +29,10 @@ const defaultOutDir = "matgate-out"
 // take up its own outputs: hidden files and folders (a name starting with
 // a dot: .git, .github, editor files), records directories (a folder
 // holding a ledger, as serve and verify --store keep them, see
-// worker.IsRecordsDir), and the folders in skip (the run's --out; a
-// folder that does not exist yet is ignored). A file or folder named as
-// an argument is taken whatever it is.
+// worker.IsRecordsDir), output folders of earlier runs with the default
+// --out (any folder named matgate-out), and the folders in skip (the
+// run's own --out; one that does not exist yet is ignored). A file or
+// folder named as an argument is taken whatever it is.
 func expandInputs(args []string, skip ...string) ([]string, error) {
 	var skipInfo []os.FileInfo
 	for _, s := range skip {
@@ -46,7 +47,7 @@ func expandInputs(args []string, skip ...string) ([]string, error) {
 		if !d.IsDir() {
 			return false, nil
 		}
-		if worker.IsRecordsDir(p) {
+		if d.Name() == defaultOutDir || worker.IsRecordsDir(p) {
 			return true, nil
 		}
 		st, err := os.Stat(p)
