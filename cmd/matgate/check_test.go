@@ -53,8 +53,8 @@ func TestExpandInputsLeavesOut(t *testing.T) {
 	card := []byte("id: x\n")
 	for _, name := range []string{
 		"a.yaml", "sub/b.json", "sub/c.YML", // cards
-		"notes.txt",                           // not a card file
-		".git/d.yaml", ".hidden.yaml",         // hidden
+		"notes.txt",                   // not a card file
+		".git/d.yaml", ".hidden.yaml", // hidden
 		"matgate-out/e.record.json", "sub/matgate-out/f.card.json", // default --out of earlier runs
 		"records/ab/g.card.json",   // a records directory (below)
 		"custom-out/h.record.json", // this run's --out
