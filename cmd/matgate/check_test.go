@@ -345,3 +345,59 @@ func result0(m map[string]any) map[string]any {
 func region0(m map[string]any) map[string]any {
 	return result0(m)["locations"].([]any)[0].(map[string]any)["physicalLocation"].(map[string]any)["region"].(map[string]any)
 }
+
+// TestCheckLibraryRules holds real card files to each library rule: two
+// files of one run, and files against a records directory that verify
+// --store filled.
+func TestCheckLibraryRules(t *testing.T) {
+	dir := t.TempDir()
+	original := demoVariant(t, dir, "a-original.yaml")
+	changed := demoVariant(t, dir, "b-changed.yaml", "yield_stress: 40", "yield_stress: 41")
+	r3 := demoVariant(t, dir, "c-r3.yaml", "revision: 2", "revision: 3", "yield_stress: 40", "yield_stress: 41")
+	r3changed := demoVariant(t, dir, "d-r3-changed.yaml", "revision: 2", "revision: 3", "yield_stress: 40", "yield_stress: 42")
+	store := filepath.Join(t.TempDir(), "records")
+
+	// One content per id and revision in a run; both files named.
+	code, out, _ := matgate(t, "", "check", original, changed)
+	if want := changed + ":5:11: /revision: card demo-canopy-aluminium revision 2 is also in " + original + ":5:11 with other content"; code != exitInvalid || !strings.Contains(out, want) {
+		t.Errorf("duplicate revision: exit %d, want %d and %q in\n%s", code, exitInvalid, want, out)
+	}
+
+	if code, out, errOut := matgate(t, "", "verify", "--out", t.TempDir(), "--store", store, r3); code != exitPass {
+		t.Fatalf("verify --store: exit %d\n%s%s", code, out, errOut)
+	}
+	entries, _ := worker.OpenDirStoreReadOnly(store)
+	stored, n := entries.List("", 0, 10)
+	entries.Close()
+	if n != 1 {
+		t.Fatalf("%d records stored, want 1", n)
+	}
+	// The store is read without its lock: check works while a writer
+	// (serve, verify --store) holds the directory.
+	writer, err := worker.OpenDirStore(store)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer writer.Close()
+	for _, tc := range []struct {
+		name, file string
+		code       int
+		want       string
+	}{
+		{"stored card", r3, exitPass, "c-r3.yaml: valid: demo-canopy-aluminium r3"},
+		{"unbumped", r3changed, exitInvalid, r3changed + ":5:11: /revision: card demo-canopy-aluminium revision 3 has a stored record " + stored[0].ID},
+		{"below", original, exitInvalid, original + ":5:11: /revision: card demo-canopy-aluminium revision 2 is below revision 3, the latest stored (record " + stored[0].ID},
+	} {
+		code, out, errOut := matgate(t, "", "check", "--store", store, tc.file)
+		if code != tc.code || !strings.Contains(out, tc.want) {
+			t.Errorf("%s: exit %d, want %d and %q in\n%s%s", tc.name, code, tc.code, tc.want, out, errOut)
+		}
+	}
+	_, out, _ = matgate(t, "", "check", "--format", "json", "--store", store, r3changed)
+	if !strings.Contains(out, `"rule": "library-unbumped-revision"`) {
+		t.Errorf("json: no rule id of the library rule:\n%s", out)
+	}
+	if code, _, errOut := matgate(t, "", "check", "--store", dir, r3); code != exitInvalid || !strings.Contains(errOut, "not a records directory") {
+		t.Errorf("--store of a folder without a ledger: exit %d %s", code, errOut)
+	}
+}
