@@ -167,20 +167,22 @@ func loadCard(e *env, name string) loaded {
 }
 
 // readLimited reads at most limit+1 bytes so that Decode can report an
-// oversized file without the whole file in memory.
+// oversized file without the whole file in memory. Standard input is read
+// once, at the first call, and the same bytes are returned to every later
+// call, so a card from "-" can be loaded twice (see libraryConflicts).
 func readLimited(e *env, name string, limit int64) ([]byte, error) {
-	var r io.Reader
 	if name == "-" {
-		r = e.stdin
-	} else {
-		f, err := os.Open(name)
-		if err != nil {
-			return nil, err
-		}
-		defer f.Close()
-		r = f
+		e.stdinOnce.Do(func() {
+			e.stdinData, e.stdinErr = io.ReadAll(io.LimitReader(e.stdin, limit+1))
+		})
+		return e.stdinData, e.stdinErr
 	}
-	return io.ReadAll(io.LimitReader(r, limit+1))
+	f, err := os.Open(name)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	return io.ReadAll(io.LimitReader(f, limit+1))
 }
 
 // referenceReader reads reference curves relative to the card's directory,
