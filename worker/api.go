@@ -12,6 +12,7 @@ import (
 	"net/http"
 	"net/url"
 	"strconv"
+	"strings"
 	"time"
 
 	"github.com/hibiken/asynq"
@@ -276,21 +277,22 @@ func (a *API) libraryRules(w http.ResponseWriter, r *http.Request, ref CardRef) 
 	cs, err := StoreConflicts(a.c.Store, ref)
 	if err != nil {
 		a.c.Log.Error("records directory", "path", r.URL.Path, "err", err)
-		problem(w, r, http.StatusInternalServerError, "records directory unreadable", err.Error(), nil)
+		w.Header().Set("Retry-After", "5")
+		problem(w, r, http.StatusServiceUnavailable, "records directory unavailable", err.Error(), nil)
 		return false
 	}
 	if len(cs) == 0 {
 		return true
 	}
+	diags := make([]string, len(cs))
 	msgs := make([]string, len(cs))
 	records := make([]string, len(cs))
 	for i, c := range cs {
-		msgs[i] = c.Diagnostic().String()
+		diags[i], msgs[i] = c.Diagnostic().String(), c.Message()
 		records[i] = "/v1/records/" + c.Stored.Record
 	}
-	problem(w, r, http.StatusConflict, "library rule",
-		fmt.Sprintf("the card breaks %d rule(s) of the library: %s", len(cs), cs[0].Message()),
-		map[string]any{"errors": msgs, "conflicts": cs, "records": records})
+	problem(w, r, http.StatusConflict, "library rule", strings.Join(msgs, "; "),
+		map[string]any{"errors": diags, "conflicts": cs, "records": records})
 	return false
 }
 

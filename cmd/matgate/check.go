@@ -93,7 +93,7 @@ rule (warnings fail only with --strict), 3 when the store cannot be read.`,
 	}
 	c.Flags().StringVar(&format, "format", "text", "output format: text, json or sarif")
 	c.Flags().BoolVar(&strict, "strict", false, "treat warnings as errors")
-	c.Flags().IntVar(&jobs, "jobs", defaultJobs(), "cards checked at once (default: every core)")
+	c.Flags().IntVar(&jobs, "jobs", defaultJobs(), "cards checked at once; the default is every core the process may use")
 	c.Flags().StringVar(&storeDir, "store", "", "also hold the cards to the records in this records directory (read only)")
 	return c
 }
