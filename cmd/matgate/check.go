@@ -33,9 +33,8 @@ revision of its id. The store is only read.
 
 A directory stands for every .yaml, .yml and .json file below it, leaving
 out hidden files and folders, records directories and folders named
-matgate-out (verify's outputs).
-Cards are checked on --jobs cores; the output is in the order of the
-inputs, the same for any --jobs.
+matgate-out (verify's outputs). Cards are checked on --jobs cores; the
+output is in the order of the inputs, the same for any --jobs.
 
 --format json prints one object per card; --format sarif prints SARIF
 2.1.0 (the OASIS format that code-review tools show at the line), one
