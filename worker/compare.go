@@ -21,13 +21,6 @@ type Comparison struct {
 	NewResp *checks.Response `json:"-"`
 }
 
-// CardRef names one side of a comparison.
-type CardRef struct {
-	File     string `json:"file,omitempty"`
-	ID       string `json:"id"`
-	Revision int    `json:"revision"`
-	Digest   string `json:"digest"`
-}
 
 // Compare computes the Comparison of two canonical cards (as
 // convert.Normalize writes them).
