@@ -183,7 +183,8 @@ type verifyOutcome struct {
 	// revision in the store (verify --store), when there is one.
 	Comparison *worker.Comparison `json:"comparison,omitempty"`
 
-	record *checks.Record
+	record  *checks.Record
+	seconds float64 // how long the card took (JUnit's time), not in the JSON
 }
 
 // verifyOptions are the settings verifyOne shares across the cards.
@@ -240,7 +241,9 @@ func verifyOne(cmd *cobra.Command, e *env, name string, opt verifyOptions) verif
 			return reuseStored(o, store, id, base, opt.withReport)
 		}
 	}
+	start := time.Now()
 	out, err := worker.Verify(cmd.Context(), l.card, toolOf(), time.Now().UTC())
+	o.seconds = time.Since(start).Seconds()
 	if errors.Is(err, checks.ErrInvalidSpec) {
 		// A card the verification cannot take (such as a reference too
 		// long to replay): invalid input, not an internal error.
