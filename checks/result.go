@@ -27,7 +27,7 @@ type Settings struct {
 	StressIncrement  float64       `json:"stress_increment"`  // max stress increment of the stress-controlled cases, Pa
 	SubstepTol       float64       `json:"substep_tol"`       // plastic.Settings.SubstepTol (3D), relative to sigmaY
 	DriverTol        float64       `json:"driver_tol"`        // stress residual of the controlled increments, relative to sigmaY
-	AngleIncrements  int           `json:"angle_increments"`  // increments per cycle of the tension-torsion circle
+	AngleIncrements  int           `json:"angle_increments"`  // increments per turn of the circular strain path
 	MonotonicStrain  float64       `json:"monotonic_strain"`  //
 	StrainAmplitudes []float64     `json:"strain_amplitudes"` //
 	Cycles           int           `json:"cycles"`            // of the fully reversed cases

@@ -88,7 +88,7 @@ func (v *verifier) cases() []caseSpec {
 	cs = append(cs,
 		caseSpec{name: "3d-uniaxial-stress", fn: v.uniaxial3D},
 		caseSpec{name: "3d-pure-shear", fn: v.pureShear},
-		caseSpec{name: "3d-tension-torsion-90", fn: v.tensionTorsion, ownConvergence: true})
+		caseSpec{name: "3d-circular-strain-path", fn: v.circle})
 	for _, r := range v.spec.References {
 		cs = append(cs, caseSpec{name: "reference-" + r.Name, fn: v.reference(r)})
 	}
