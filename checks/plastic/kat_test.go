@@ -122,14 +122,23 @@ func TestKnownAnswersMonotonic(t *testing.T) {
 	}
 }
 
-// TestExpStep: the small-argument series of expStep agrees with math.Exp to
-// round-off. Bound: the Taylor remainder after x^5 is below x^6/720 <=
-// 1.4e-21 for |x| <= 1e-3 (Lagrange remainder), so the difference is the
-// round-off of the two evaluations, a few ulp (4e-16 allowed).
-func TestExpStep(t *testing.T) {
-	for _, x := range []float64{-1e-3, -7.3e-4, -1e-5, -1e-12, 0, 3e-9, 2.2e-4, 1e-3, -0.05, 2} {
-		if got, want := expStep(x), math.Exp(x); relErr(got, want) > 4e-16 {
-			t.Errorf("expStep(%g) = %.17g, math.Exp = %.17g", x, got, want)
+// TestMoveExpm1: the factor exp(-rate dp) - 1 moved from dp - delta to dp
+// agrees with math.Expm1(-rate dp) to round-off relative to itself, for
+// small moves (the Taylor branch) and large ones, including moves that
+// would overflow exp and tiny dp where exp(x) rounds to 1. Bound: the
+// Taylor remainder after x^6 is below |x|^7/5040 <= 2e-25 |x| for |x| <=
+// 1e-3 (Lagrange remainder), so the difference is the round-off of the
+// two evaluations and of the product, a few ulp (1e-15 relative allowed).
+func TestMoveExpm1(t *testing.T) {
+	cases := []struct{ rate, dp, delta float64 }{
+		{3000, 1e-7, 1e-7}, {3000, 1e-7, 2e-8}, {3000, 2e-20, 1e-20}, {50, 1e-3, 1e-5},
+		{2950, 0.0448, -0.47}, {2950, 0.514, 0.514}, {0.5, 3, 1e-4}, {10, 1e-300, 1e-300},
+	}
+	for _, c := range cases {
+		em0 := math.Expm1(-c.rate * (c.dp - c.delta))
+		got, want := moveExpm1(em0, c.rate, c.dp, c.delta), math.Expm1(-c.rate*c.dp)
+		if relErr(got, want) > 1e-15 {
+			t.Errorf("moveExpm1(rate %g, dp %g, delta %g) = %.17g, math.Expm1 = %.17g", c.rate, c.dp, c.delta, got, want)
 		}
 	}
 }

@@ -231,13 +231,20 @@ func (m *Material) mustBeValid() {
 	}
 }
 
-// expStep returns exp(x). For |x| <= 1e-3 it sums the Taylor series to x^5
-// (truncation below x^6/720 ~ 1.4e-21, under the round-off of math.Exp),
-// which is several times cheaper; the iterations on dp use it to move the
-// factors exp(-gamma dp) by the small corrections of late iterates.
-func expStep(x float64) float64 {
+// u is the unit round-off of float64, 2^-53.
+const u = 0x1p-53
+
+// moveExpm1 returns exp(-rate dp) - 1 at dp from em, its value at
+// dp - delta. Small moves (|rate delta| <= 1e-3, the late iterates of the
+// iterations on dp) update em by the factor exp(-rate delta) from the
+// Taylor series to x^6 (truncation below |x|^7/5040 ~ 2e-25 |x|, under the
+// round-off of math.Expm1), several times cheaper than math.Expm1; larger
+// moves evaluate math.Expm1 afresh. Carrying exp(x) - 1 rather than exp(x)
+// keeps a tiny dp moving the factor (1 + x would round to 1).
+func moveExpm1(em, rate, dp, delta float64) float64 {
+	x := -rate * delta
 	if x > 1e-3 || x < -1e-3 {
-		return math.Exp(x)
+		return math.Expm1(-rate * dp)
 	}
-	return 1 + x*(1+x*(0.5+x*(1.0/6+x*(1.0/24+x*(1.0/120)))))
+	return em + (1+em)*x*(1+x*(0.5+x*(1.0/6+x*(1.0/24+x*(1.0/120+x*(1.0/720))))))
 }

@@ -66,6 +66,8 @@ type StepInfo struct {
 	Iterations int     // scalar iterations on dp, summed over substeps
 	Substeps   int     // return mappings performed (1D: 1; 3D Exact: more on non-proportional increments)
 	Tangent    float64 // 1D only: consistent (algorithmic) tangent d sigma / d eps, Pa
+
+	budget int // 3D substepping: the most return mappings allowed
 }
 
 // Result says what a driver run did. The increment sizes are inputs and are

@@ -78,11 +78,20 @@ func (m *Material) Dissipation1D(prev, next *State1D) float64 {
 //	alpha_i(dp) = (alpha_i,n + n C_i dp) / (1 + gamma_i dp).
 //
 // R is the closed form in both. g is decreasing (g' = -(E + h) with the
-// plastic modulus h > -E by the NewMaterial preconditions) and g(0) > 0; dp
-// is found by Halley's method from dp = 0, kept inside a bracket [lo, hi]
-// that every evaluation narrows (bisection when an iterate leaves it), until
-// the Newton correction |g/g'| is below 1e-14 dp (round-off). Without Armstrong-Frederick terms and
-// Voce hardening g is linear and dp = f_tr / (E + sum H + K) at once. Then
+// plastic modulus h > -E by the NewMaterial preconditions) and g(0) = f_tr
+// > 0. g is evaluated as the trial value minus the changes since dp = 0,
+//
+//	g(dp) = f_tr - (E + sum H + K) dp - (R(p_n + dp) - R(p_n)) - n sum_AF (alpha_i(dp) - alpha_i,n)
+//
+// with the exponentials carried as exp(-gamma dp) - 1, so that g keeps its
+// relative accuracy however small dp is (a trial state one ulp outside the
+// surface gives dp ~ 1e-19). dp is found by Halley's method from dp = 0,
+// kept inside a bracket [lo, hi] that every evaluation narrows (bisection
+// when an iterate leaves it), until |g| is at the round-off floor of its
+// terms ((2 N_AF + 6) u times the sum of their magnitudes), or the Newton
+// correction |g/g'| is below 2^-52 dp, or the bracket has closed to 2^-51
+// relative. Without Armstrong-Frederick terms and Voce hardening g is
+// linear and dp = f_tr / (E + sum H + K) at once. Then
 //
 //	sigma = sigma_tr - n E dp,  eps_p += n dp,  p += dp,
 //	tangent = E h / (E + h),    h = -g'(dp) - E,
@@ -138,31 +147,34 @@ func (m *Material) Step1D(dst, src *State1D, dEps float64, set *Settings) (StepI
 	}
 	exact := set.alg() == Exact
 
-	// Per-term constants: nAlpha = n alpha_n, and for Exact b = n alpha_n - C/gamma.
-	var nAlpha, b, e [MaxTerms]float64 // e: exp(-gamma dp) (Exact) or 1/(1+gamma dp) at the current dp
-	linSum := 0.0                      // n * sum of linear alpha_n
-	for j := 0; j < m.nLin; j++ {
-		linSum += n * s.Alpha[m.lin[j]]
-	}
+	// Per-term constants: nAlpha = n alpha_n; b = n alpha_n - C/gamma
+	// (Exact) or C - gamma n alpha_n (BackwardEuler); em = exp(-gamma dp) - 1
+	// (Exact) or 1/(1 + gamma dp) (BackwardEuler) at the current dp.
+	var nAlpha, b, em [MaxTerms]float64
 	nAF := m.nAF
 	for j := 0; j < nAF; j++ {
 		nAlpha[j] = n * s.Alpha[m.af[j]]
-		b[j] = nAlpha[j] - m.afA[j]
-		e[j] = 1
+		if exact {
+			b[j] = nAlpha[j] - m.afA[j]
+		} else {
+			b[j] = m.afC[j] - m.afG[j]*nAlpha[j]
+			em[j] = 1
+		}
 	}
-	// Voce: exp(-B (p + dp)) = eP * eR, eR = exp(-B dp) at the current dp.
-	eR := 1.0
 	kLin := 0.0
 	if m.Iso.Kind == IsoLinear {
 		kLin = m.Iso.K
 	}
-	nSig := n * sigTr
-	hLin := m.hLin + kLin
+	// k0 dp is the part of the residual linear in dp.
+	k0 := m.E + m.hLin + kLin
+	// Voce: R(p + dp) - R(p) = -Q exp(-B p) (exp(-B dp) - 1); wm carries
+	// exp(-B dp) - 1 at the current dp.
+	wm := 0.0
 
 	dp := 0.0
 	it := 0
-	// g' at dp = 0 (e = q = 1), the same for both algorithms; r1 = R'(p)
-	// includes the linear isotropic modulus.
+	// g' at dp = 0, the same for both algorithms; r1 = R'(p) includes the
+	// linear isotropic modulus.
 	g1 := -m.E - m.hLin - r1
 	for j := 0; j < nAF; j++ {
 		g1 -= m.afC[j] - m.afG[j]*nAlpha[j]
@@ -203,51 +215,65 @@ func (m *Material) Step1D(dst, src *State1D, dEps float64, set *Settings) (StepI
 					next = 0.5 * (lo + hi)
 				}
 			}
-			small := math.Abs(next-dp) <= 1e-14*next
 			delta := next - dp
 			dp = next
 
-			// g, g', g'' at dp.
-			g = nSig - (m.E+m.hLin)*dp - linSum - m.SigmaY - kLin*(s.P+dp)
-			g1 = -m.E - hLin
+			// g, g', g'' at dp, as the trial value f minus the changes
+			// since dp = 0, so that g keeps its relative accuracy however
+			// small dp is; floor sums the magnitudes of the terms, whose
+			// round-off bounds the accuracy g can reach.
+			ld := k0 * dp
+			g = f - ld
+			floor := math.Abs(f) + ld
+			g1 = -k0
 			g2 = 0
 			if voce {
-				eR *= expStep(-m.Iso.B * delta)
-				w := eP * eR
-				g -= m.Iso.Q * (1 - w)
-				qb := m.Iso.Q * m.Iso.B * w
+				wm = moveExpm1(wm, m.Iso.B, dp, delta)
+				dR := -m.Iso.Q * eP * wm
+				g -= dR
+				floor += math.Abs(dR)
+				qb := m.Iso.Q * m.Iso.B * eP * (1 + wm)
 				g1 -= qb
 				g2 += qb * m.Iso.B
 			}
 			if exact {
 				for j := 0; j < nAF; j++ {
 					gam := m.afG[j]
-					e[j] *= expStep(-gam * delta)
-					be := b[j] * e[j]
-					g -= m.afA[j] + be
+					em[j] = moveExpm1(em[j], gam, dp, delta)
+					// n alpha - n alpha_n = b (exp(-gamma dp) - 1)
+					da := b[j] * em[j]
+					g -= da
+					floor += math.Abs(da)
+					be := b[j] * (1 + em[j])
 					g1 += gam * be
 					g2 -= gam * gam * be
 				}
 			} else {
 				for j := 0; j < nAF; j++ {
-					gam, c := m.afG[j], m.afC[j]
-					q := 1 / (1 + gam*dp)
-					e[j] = q
-					// n alpha = (n alpha_n + C dp) q; d/d dp = (C - gamma n alpha_n) q^2
-					cq := (c - gam*nAlpha[j]) * q * q
-					g -= (nAlpha[j] + c*dp) * q
-					g1 -= cq
-					g2 += 2 * gam * cq * q
+					q := 1 / (1 + m.afG[j]*dp)
+					em[j] = q
+					// n alpha - n alpha_n = (C - gamma n alpha_n) dp q
+					cq := b[j] * q
+					da := cq * dp
+					g -= da
+					floor += math.Abs(da)
+					g1 -= cq * q
+					g2 += 2 * m.afG[j] * cq * q * q
 				}
+			}
+			if math.IsNaN(g) {
+				break
 			}
 			if g > 0 {
 				lo = dp
 			} else {
 				hi = dp
 			}
-			// Converged when the Newton correction from dp (an estimate of
-			// its error) is at round-off, or the bracket has closed.
-			if small || math.Abs(g) <= -1e-14*dp*g1 || (hi < math.MaxFloat64 && hi-lo <= 1e-15*hi) {
+			// Converged when g is at the round-off floor of its terms
+			// (2 u per term and operation, with the factor 2 for the
+			// accumulated exponentials), when the Newton correction is
+			// below the resolution of dp, or when the bracket has closed.
+			if math.Abs(g) <= float64(2*nAF+6)*u*floor || math.Abs(g) <= -0x1p-52*dp*g1 || (hi < math.MaxFloat64 && hi-lo <= 0x1p-51*hi) {
 				converged = true
 				break
 			}
@@ -260,7 +286,7 @@ func (m *Material) Step1D(dst, src *State1D, dEps float64, set *Settings) (StepI
 		return StepInfo{Iterations: it, Substeps: 1}, ErrNotConverged
 	}
 
-	// Write the state at dp (e holds the factors at this dp).
+	// Write the state at dp (em holds the factors at this dp).
 	p0 := s.P
 	if dst != src {
 		*dst = *src
@@ -272,9 +298,9 @@ func (m *Material) Step1D(dst, src *State1D, dEps float64, set *Settings) (StepI
 	for j := 0; j < nAF; j++ {
 		i := m.af[j]
 		if exact {
-			dst.Alpha[i] = n * (m.afA[j] + b[j]*e[j])
+			dst.Alpha[i] += n * b[j] * em[j]
 		} else {
-			dst.Alpha[i] = (dst.Alpha[i] + n*m.afC[j]*dp) * e[j]
+			dst.Alpha[i] = (dst.Alpha[i] + n*m.afC[j]*dp) * em[j]
 		}
 	}
 	dst.Eps += dEps

@@ -129,8 +129,11 @@ func (m *Material) ElasticStiffness() [6][6]float64 {
 //	r(dp) = sqrt(3/2) |xiT(dp)| - 3G dp - sum_i psi_i(dp) - (sigmaY + R(p_n + dp)) = 0
 //
 // with psi_i = (C_i/gamma_i)(1 - e_i) (Exact), C_i dp q_i (BackwardEuler) or
-// C_i dp (linear). It is solved by a bracketed Newton iteration to
-// round-off. Then nHat = xiT/|xiT|, s = s_tr - sqrt(6) G dp nHat, and the
+// C_i dp (linear). It is evaluated as the trial value plus the changes
+// since dp = 0 (see returnMap), so that it keeps its relative accuracy
+// however small dp is, and solved by a bracketed Newton iteration until r
+// is at the round-off floor of its terms, the Newton correction is below
+// 2^-52 dp, or the bracket has closed. Then nHat = xiT/|xiT|, s = s_tr - sqrt(6) G dp nHat, and the
 // consistent tangent is
 //
 //	D = K 1(x)1 + 2G (1 - theta) I_dev + 2G theta nHat(x)nHat - (6 G^2 / Dr) (nHat + c w) (x) nHat
@@ -336,17 +339,10 @@ func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float
 	sTr[1] -= pTr
 	sTr[2] -= pTr
 
-	// xi0 = s_tr - sum of linear X_n (fixed part of xiT).
-	xi0 := sTr
-	for j := 0; j < m.nLin; j++ {
-		x := &src.X[m.lin[j]]
-		for k := 0; k < 6; k++ {
-			xi0[k] -= x[k]
-		}
-	}
-	xiTr := xi0
-	for j := 0; j < m.nAF; j++ {
-		x := &src.X[m.af[j]]
+	// xiTr = s_tr - X_n, the trial relative stress.
+	xiTr := sTr
+	for i := 0; i < m.N; i++ {
+		x := &src.X[i]
 		for k := 0; k < 6; k++ {
 			xiTr[k] -= x[k]
 		}
@@ -377,66 +373,87 @@ func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float
 		return StepInfo{Substeps: 1}, nil
 	}
 	exact := alg == Exact
-	var phi [MaxTerms]float64 // e_i or q_i at the current dp
+	// The residual is written as the trial value f plus the changes since
+	// dp = 0, so that it keeps its relative accuracy however small dp is:
+	//
+	//	r(dp) = f + sqrt(3/2) (|xiT(dp)| - |xiTr|) - k0 dp - dR(dp) - sum_AF psi_i(dp)
+	//
+	// with xiT(dp) = xiTr + d, d = -sum_AF (phi_i - 1) X_i,n, the norm
+	// difference evaluated as (2 xiTr : d + d : d) / (|xiT| + |xiTr|), k0 =
+	// 3G + sum H + K, dR = R(p + dp) - R(p) and psi_i as documented.
+	// phiM[j] carries phi_j - 1 at the current dp.
+	var phiM, nX [MaxTerms]float64
 	var xiT, v [6]float64
-	var nxi float64
-
-	// eval sets phi, xiT, v, nxi and returns r and Dr = -r'.
-	// Voce: exp(-B (p + dp)) = eP * eR with eR = exp(-B dp) carried along.
-	eR := 1.0
+	nTr := math.Sqrt(Contract(xiTr, xiTr))
+	nxi := nTr
 	kLin := 0.0
 	if m.Iso.Kind == IsoLinear {
 		kLin = m.Iso.K
 	}
+	k0 := 3*G + m.hLin + kLin
 	for j := 0; j < m.nAF; j++ {
-		phi[j] = 1
+		x := &src.X[m.af[j]]
+		nX[j] = math.Sqrt(Contract(*x, *x))
 	}
-	// eval moves dp by delta, updates phi, xiT, v, nxi and returns r and
-	// Dr = -r'.
-	eval := func(dp, delta float64) (r, dr float64) {
-		xiT = xi0
+	wm := 0.0 // Voce: exp(-B dp) - 1 at the current dp
+	// eval moves dp by delta, updates phiM, xiT, v, nxi and returns r,
+	// Dr = -r' and the round-off floor of r (the sum of the magnitudes of
+	// its terms).
+	eval := func(dp, delta float64) (r, dr, floor float64) {
+		var d [6]float64
 		v = [6]float64{}
-		psi := (3*G+m.hLin)*dp + m.SigmaY + kLin*(src.P+dp)
-		dpsi := 3*G + m.hLin + kLin
+		ld := k0 * dp
+		r = f - ld
+		floor = math.Abs(f) + math.Abs(ld)
+		dr = k0
 		if voce {
-			eR *= expStep(-m.Iso.B * delta)
-			w := eP * eR
-			psi += m.Iso.Q * (1 - w)
-			dpsi += m.Iso.Q * m.Iso.B * w
+			wm = moveExpm1(wm, m.Iso.B, dp, delta)
+			dR := -m.Iso.Q * eP * wm
+			r -= dR
+			floor += math.Abs(dR)
+			dr += m.Iso.Q * m.Iso.B * eP * (1 + wm)
 		}
 		for j := 0; j < m.nAF; j++ {
 			c, gam := m.afC[j], m.afG[j]
 			x := &src.X[m.af[j]]
-			var ph, dph float64 // phi, -phi'
+			var pm, dph, psi float64 // phi - 1, -phi', psi
 			if exact {
-				ph = phi[j] * expStep(-gam*delta)
-				dph = gam * ph
-				psi += m.afA[j] * (1 - ph)
-				dpsi += c * ph
+				phiM[j] = moveExpm1(phiM[j], gam, dp, delta)
+				pm = phiM[j]
+				dph = gam * (1 + pm)
+				psi = -m.afA[j] * pm
+				dr += c * (1 + pm)
 			} else {
-				ph = 1 / (1 + gam*dp)
-				dph = gam * ph * ph
-				psi += c * dp * ph
-				dpsi += c * ph * ph
+				q := 1 / (1 + gam*dp)
+				pm = -gam * dp * q
+				phiM[j] = pm
+				dph = gam * q * q
+				psi = c * dp * q
+				dr += c * q * q
 			}
-			phi[j] = ph
+			r -= psi
+			floor += math.Abs(psi) + s32*math.Abs(pm)*nX[j]
 			for k := 0; k < 6; k++ {
-				xiT[k] -= ph * x[k]
+				d[k] -= pm * x[k]
 				v[k] += dph * x[k]
 			}
 		}
+		for k := 0; k < 6; k++ {
+			xiT[k] = xiTr[k] + d[k]
+		}
 		nxi = math.Sqrt(Contract(xiT, xiT))
-		r = s32*nxi - psi
-		dr = dpsi - s32*Contract(xiT, v)/nxi
-		return r, dr
+		if den := nxi + nTr; den > 0 {
+			r += s32 * (2*Contract(xiTr, d) + Contract(d, d)) / den
+		}
+		dr -= s32 * Contract(xiT, v) / nxi
+		return r, dr, floor
 	}
 
-	// r and -r' at dp = 0 (e = q = 1, the same for both algorithms).
+	// r and -r' at dp = 0 (phi = 1, the same for both algorithms).
 	dp := 0.0
-	nxi = math.Sqrt(Contract(xiTr, xiTr))
 	xiT = xiTr
 	r := f
-	dr := 3*G + m.hLin + r1
+	dr := k0 + r1 - kLin
 	for j := 0; j < m.nAF; j++ {
 		dr += m.afC[j]
 		x := &src.X[m.af[j]]
@@ -444,13 +461,16 @@ func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float
 			v[k] += m.afG[j] * x[k]
 		}
 	}
-	dr -= s32 * Contract(xiTr, v) / nxi
+	dr -= s32 * Contract(xiTr, v) / nTr
 	lo, hi := 0.0, math.Inf(1)
 	if project {
 		lo = math.Inf(-1)
 	}
 	it := 0
 	converged := false
+	// Round-off of r: 2 u per term and operation, with room for the norm
+	// difference and the accumulated exponentials.
+	floorC := float64(2*m.nAF+8) * u
 	for it < maxIter {
 		it++
 		step := r / dr
@@ -466,24 +486,25 @@ func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float
 				next = 0.5 * (lo + hi)
 			}
 		}
-		small := math.Abs(next-dp) <= 1e-14*math.Abs(next)
 		delta := next - dp
 		dp = next
-		r, dr = eval(dp, delta)
+		var floor float64
+		r, dr, floor = eval(dp, delta)
+		if math.IsNaN(r) {
+			break
+		}
 		if r > 0 {
 			lo = dp
 		} else {
 			hi = dp
 		}
-		// Converged when the Newton correction from dp is at round-off (or
-		// the bracket has closed).
-		if (m.linear && math.Abs(r) <= 1e-13*m.SigmaY) || small || math.Abs(r) <= 1e-14*math.Abs(dp)*dr || (hi < math.MaxFloat64 && hi-lo <= 1e-15*hi) {
+		// Converged when r is at the round-off floor of its terms, when
+		// the Newton correction is below the resolution of dp, or when the
+		// bracket has closed.
+		if math.Abs(r) <= floorC*floor || math.Abs(r) <= 0x1p-52*math.Abs(dp)*dr || (hi < math.MaxFloat64 && hi-lo <= 0x1p-51*math.Abs(hi)) {
 			converged = true
 			break
 		}
-	}
-	if project && !converged && math.Abs(r) <= 1e-13*m.SigmaY {
-		converged = true // dp ~ 0: the relative step test cannot be met
 	}
 	if !converged || !(dr > 0) || !(nxi > 0) || math.IsNaN(dp) {
 		return StepInfo{Iterations: it, Substeps: 1}, ErrNotConverged
@@ -508,7 +529,7 @@ func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float
 	for j := 0; j < m.nAF; j++ {
 		i := m.af[j]
 		t := m.Terms[i]
-		ph := phi[j]
+		ph := 1 + phiM[j]
 		if exact {
 			c := s23 * t.C / t.Gamma * (1 - ph)
 			for k := 0; k < 6; k++ {
