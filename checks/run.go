@@ -29,7 +29,7 @@ func Run(ctx context.Context, spec Spec) (*Result, error) {
 			continue
 		}
 		c, set, err := cs.fn(ctx, 1)
-		if err == nil && !cs.ownConvergence {
+		if err == nil {
 			var fine Case
 			var fset CaseSetting
 			fine, fset, err = cs.fn(ctx, 2)
@@ -65,8 +65,6 @@ type caseSpec struct {
 	name, kind, loading string
 	skip                string
 	fn                  caseFn
-	ownConvergence      bool // the case makes its own refinement study
-
 }
 
 func (v *verifier) cases() []caseSpec {
