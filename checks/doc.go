@@ -9,7 +9,11 @@
 //
 // Run(ctx, spec) is the entry point. A failed check is a result (Verdict
 // "fail"), never an error; errors are cancellation (ErrCanceled), an invalid
-// Spec (*SpecError) and integrator failures (*CaseError).
+// Spec (*SpecError) and integrator failures (*CaseError). Diagnose(ctx,
+// spec, units) replays each reference curve under the usual misreadings of
+// a card (Misreading) with the same comparison, for the record's findings:
+// which one explains a failed reference, or matches a passing one far
+// better than the card as written.
 //
 // Every closed-form reference names its source beside it (author, title,
 // year, equation); formulas derived in this package say "derived here" and

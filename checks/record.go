@@ -11,8 +11,6 @@ import (
 	"fmt"
 	"strings"
 	"time"
-
-	"github.com/gowebpki/jcs"
 )
 
 // RecordFormat is the format name of a verification record.
@@ -31,7 +29,7 @@ type Record struct {
 	Settings  Settings   `json:"settings"`
 	Cases     []Case     `json:"cases"`
 	Verdict   string     `json:"verdict"`
-	Findings  []string   `json:"findings,omitempty"` // see Result.Findings
+	Findings  []Finding  `json:"findings,omitempty"` // see Result.Findings
 	Caution   string     `json:"caution"`
 	Digest    string     `json:"digest,omitempty"`    // "sha256:" + hex
 	Signature *Signature `json:"signature,omitempty"` //
@@ -112,7 +110,7 @@ func (r *Record) ComputeDigest() (string, error) {
 	if err != nil {
 		return "", fmt.Errorf("%w: encode: %w", ErrBadRecord, err)
 	}
-	canon, err := jcs.Transform(b)
+	canon, err := canonicalJSON(b)
 	if err != nil {
 		return "", fmt.Errorf("%w: canonicalize: %w", ErrBadRecord, err)
 	}

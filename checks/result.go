@@ -11,10 +11,9 @@ type Result struct {
 	Settings Settings `json:"settings"`
 	Cases    []Case   `json:"cases"`
 	Verdict  string   `json:"verdict"` // "pass" | "fail"
-	// Findings are sentences the caller adds about failed checks, such as
-	// which usual misreading of the card explains a failed reference curve;
-	// they go into the record and its digest.
-	Findings []string `json:"findings,omitempty"`
+	// Findings are remarks on checks that pass or fail does not carry
+	// (see Diagnose); they go into the record and its digest.
+	Findings []Finding `json:"findings,omitempty"`
 }
 
 // Settings is everything needed to reproduce a Result: the resolved Spec

@@ -207,6 +207,9 @@ func (s Spec) Resolve() (Spec, error) {
 				r.Tol = DefaultMeasuredTol
 			}
 		}
+		if err := checkReference(i, r, m, profiles[s.Profile]); err != nil {
+			return s, err
+		}
 		seen[r.Name] = true
 		r.Points = append([][2]float64(nil), r.Points...)
 		refs[i] = r

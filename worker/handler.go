@@ -107,7 +107,9 @@ func (h *Handler) ProcessTask(ctx context.Context, t *asynq.Task) error {
 		switch {
 		case err != nil && ctx.Err() != nil:
 			return fmt.Errorf("verify task %s: %w", id, ctx.Err()) // shutdown or asynq's timeout: asynq requeues
-		case err != nil && vctx.Err() != nil:
+		case err != nil && errors.Is(vctx.Err(), context.DeadlineExceeded):
+			// Only a deadline that fired is an overrun: after cancel()
+			// vctx.Err() is never nil, whatever the cause of err.
 			return fmt.Errorf("verify task %s: %w after %v: %w", id, ErrBudget, budget, asynq.SkipRetry)
 		case err != nil:
 			return fmt.Errorf("verify task %s: %w: %w", id, err, asynq.SkipRetry)

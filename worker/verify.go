@@ -46,14 +46,19 @@ type Outputs struct {
 	Record *checks.Record
 	Card   []byte          // the neutral card: the canonical card, indented JSON
 	Tables []convert.Table // tabulated curves of the neutral card
-	// Diagnoses say, for each failed reference curve, which usual
-	// misreading of the card makes it match, if any (see Diagnose).
-	Diagnoses []Diagnosis
+	// Diagnoses say, for each reference curve, which usual misreading of
+	// the card explains its failure, or matches it far better than the card
+	// as written although it passes (see checks.Diagnose). The record's
+	// Findings carry them, worded canonically.
+	Diagnoses []checks.Diagnosis
 }
 
-// Verify runs the standard verification of a canonical card and builds its
-// record and neutral card. A failed verification is a result (the record's
-// verdict), not an error; errors are cancellation and internal failures.
+// Verify runs the standard verification of a canonical card and the
+// diagnosis of its reference curves (findings), and builds its record and
+// neutral card. A failed verification is a result (the record's verdict),
+// not an error; errors are cancellation, a card the verification cannot
+// take (wrapping checks.ErrInvalidSpec, such as a reference too long to
+// replay) and internal failures.
 func Verify(ctx context.Context, c *schema.Card, tool checks.Tool, created time.Time) (*Outputs, error) {
 	spec, err := Spec(c)
 	if err != nil {
@@ -63,12 +68,12 @@ func Verify(ctx context.Context, c *schema.Card, tool checks.Tool, created time.
 	if err != nil {
 		return nil, fmt.Errorf("verify %s: %w", c.ID, err)
 	}
-	diags, err := Diagnose(ctx, c, spec, res)
+	diags, err := checks.Diagnose(ctx, spec, StressUnits())
 	if err != nil {
 		return nil, fmt.Errorf("diagnose %s: %w", c.ID, err)
 	}
 	for _, d := range diags {
-		res.Findings = append(res.Findings, d.Describe(nil))
+		res.Findings = append(res.Findings, d.Finding())
 	}
 	canon, err := convert.Canonical(c)
 	if err != nil {

@@ -92,7 +92,7 @@ show fitness for design.`,
 				}
 				sum := sha256.Sum256(b)
 				shown := filepath.Base(a) // the path relative to the card, or the bare name: no machine paths in the card
-				if r, err := filepath.Rel(cardDir, a); err == nil && !strings.HasPrefix(r, "..") && !filepath.IsAbs(r) {
+				if r, ok := below(cardDir, a); ok {
 					shown = r
 				}
 				sources = append(sources, fmt.Sprintf("%s (sha256:%s)", filepath.ToSlash(shown), hex.EncodeToString(sum[:])))
@@ -115,8 +115,8 @@ show fitness for design.`,
 					file = filepath.Join(cardDir, fmt.Sprintf("%s.%s.true.csv", id, name))
 					extra[file] = curveCSV(pts)
 				}
-				rel, err := filepath.Rel(cardDir, file)
-				if err != nil || rel == ".." || strings.HasPrefix(rel, ".."+string(filepath.Separator)) || filepath.IsAbs(rel) {
+				rel, ok := below(cardDir, file)
+				if !ok {
 					return invalid("%s is not in the folder of --out %s or below it: verify reads reference files only there; write the card beside the data", a, out)
 				}
 				refs = append(refs, fitRef{name: name, file: filepath.ToSlash(rel)})
@@ -367,4 +367,20 @@ func printFit(e *env, r *fit.Result, unit string, f float64, out string) {
 	}
 	fmt.Fprintf(w, "wrote %s; check it with: matgate verify %s\n", out, out)
 	fmt.Fprintln(w, "A fit is not fitness for design: defer to the applicable codes and licensed engineers.")
+}
+
+// below returns the path of file relative to dir when file is in dir or
+// below it. Both are made absolute first, so that a relative data path and
+// an absolute --out (or the reverse) compare as the same tree.
+func below(dir, file string) (string, bool) {
+	ad, err1 := filepath.Abs(dir)
+	af, err2 := filepath.Abs(file)
+	if err1 != nil || err2 != nil {
+		return "", false
+	}
+	r, err := filepath.Rel(ad, af)
+	if err != nil || r == ".." || strings.HasPrefix(r, ".."+string(filepath.Separator)) || filepath.IsAbs(r) {
+		return "", false
+	}
+	return r, true
 }

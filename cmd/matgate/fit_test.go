@@ -242,3 +242,43 @@ func TestFitBadInput(t *testing.T) {
 func relErr(got, want float64) float64 { return math.Abs(got-want) / math.Abs(want) }
 
 func jsonUnmarshal(s string, v any) error { return json.Unmarshal([]byte(s), v) }
+
+// TestFitPathsRelativeAndAbsolute: data given by relative paths with an
+// absolute --out above them, and absolute data paths with a relative
+// --out, are both in the card's folder and are attached (issue 10: the
+// relative path was compared with the absolute one and refused).
+func TestFitPathsRelativeAndAbsolute(t *testing.T) {
+	dir, _ := copyDemo(t)
+	t.Chdir(dir)
+	if err := os.Mkdir("data", 0o755); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.Rename(demoFileMonotonic, filepath.Join("data", demoFileMonotonic)); err != nil {
+		t.Fatal(err)
+	}
+	rel := filepath.Join("data", demoFileMonotonic)
+	cases := []struct{ name, out, data, wantRef string }{
+		{"relative data, absolute out", filepath.Join(dir, "a.yaml"), rel, "data/" + demoFileMonotonic},
+		{"absolute data, relative out", "b.yaml", filepath.Join(dir, rel), "data/" + demoFileMonotonic},
+		{"relative data, absolute out in the data folder", filepath.Join(dir, "data", "c.yaml"), rel, demoFileMonotonic},
+	}
+	for _, c := range cases {
+		code, out, errOut := matgate(t, "", "fit", "--model", "chaboche:1", "--stress-unit", "MPa", "--out", c.out, c.data)
+		if code != 0 {
+			t.Errorf("%s: exit %d\n%s%s", c.name, code, out, errOut)
+			continue
+		}
+		b, err := os.ReadFile(c.out)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !strings.Contains(string(b), `file: "`+c.wantRef+`"`) {
+			t.Errorf("%s: the card does not attach %s:\n%s", c.name, c.wantRef, b)
+		}
+	}
+	// A data file outside the card's folder is still refused.
+	code, _, errOut := matgate(t, "", "fit", "--model", "chaboche:1", "--stress-unit", "MPa", "--out", filepath.Join(dir, "data", "d.yaml"), filepath.Join(dir, fmt.Sprintf(demoFileCyclicTemplate, "0.004")))
+	if code != exitInvalid || !strings.Contains(errOut, "is not in the folder of --out") {
+		t.Errorf("data above the card's folder: exit %d, %s", code, errOut)
+	}
+}

@@ -8,7 +8,8 @@ import (
 
 // JUnit XML as CI servers read it: one testsuite a card, one testcase a
 // check, a skipped testcase for a case that does not apply, a failure with
-// value, reference and tolerance.
+// value, reference and tolerance, and the findings on a check (a failed
+// one's or a near miss of a passing one) in its system-out.
 type junitSuites struct {
 	XMLName  xml.Name     `xml:"testsuites"`
 	Name     string       `xml:"name,attr"`
@@ -33,6 +34,9 @@ type junitCase struct {
 	Failure   *junitMessage `xml:"failure,omitempty"`
 	Error     *junitMessage `xml:"error,omitempty"`
 	Skipped   *junitMessage `xml:"skipped,omitempty"`
+	// SystemOut carries the findings on the check (see checks.Finding),
+	// which a passing check would otherwise not show.
+	SystemOut string `xml:"system-out,omitempty"`
 }
 
 type junitMessage struct {
@@ -81,6 +85,11 @@ func (o verifyOutcome) junit() junitSuite {
 					Body:    fmt.Sprintf("reference from: %s\ntolerance basis: %s\n", ck.ReferenceSource, ck.ToleranceBasis),
 				}
 				s.Failures++
+			}
+			for _, f := range o.Findings {
+				if f.Case == cs.Name && f.Check == ck.Name {
+					jc.SystemOut += "finding: " + f.Text + "\n"
+				}
 			}
 			s.Cases = append(s.Cases, jc)
 		}

@@ -81,10 +81,15 @@ applicable codes and licensed engineers.`,
 		SilenceErrors: true,
 	}
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return &usageError{err} })
+	// --version prints the same line as `matgate version`, computed only
+	// when asked (it may run git, see sourceCommit).
+	root.Version = "see template"
+	cobra.AddTemplateFunc("matgateVersion", versionLine)
+	root.SetVersionTemplate("matgate {{matgateVersion}}\n")
 	root.AddCommand(newVersionCmd(e), newCheckCmd(e), newNormalizeCmd(e), newSchemaCmd(e),
 		newVerifyCmd(e), newSimulateCmd(e), newRecordCmd(e))
 	root.AddCommand(newServeCmd(e), newWorkerCmd(e), newSubmitCmd(e), newLedgerCmd(e), newTokenCmd(e))
-	root.AddCommand(newFitCmd(e))
+	root.AddCommand(newFitCmd(e), newCompareCmd(e))
 	for _, c := range root.Commands() {
 		wrapArgs(c)
 	}

@@ -64,7 +64,7 @@ func serve(ctx context.Context, e *env, cfg *Config, ready func(addr string)) er
 	metrics := worker.NewMetrics(insp)
 	api, err := worker.NewAPI(worker.APIConfig{
 		Redis: rdb, Queue: client, Inspector: insp, Store: store, Metrics: metrics,
-		Tokens: cfg.Auth.Tokens, Settings: worker.Settings{ToolVersion: version},
+		Tokens: cfg.Auth.Tokens, Settings: worker.Settings{ToolVersion: toolOf().Version},
 		Budget: cfg.Verify.Budget, MaxBody: cfg.Server.MaxBody, DefaultProfile: cfg.Verify.Profile, Log: log,
 	})
 	if err != nil {

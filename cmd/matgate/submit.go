@@ -270,6 +270,9 @@ func (o *verifyOutcome) fromRecord(r *checks.Record) {
 			}
 		}
 	}
+	for _, f := range r.Findings {
+		o.Findings = append(o.Findings, outcomeFinding{Case: f.Case, Check: f.Check, CheckPassed: f.CheckPassed, Misreading: string(f.Misreading), Text: f.Text})
+	}
 }
 
 // progress shows one event: the line itself, or on a terminal a bar.

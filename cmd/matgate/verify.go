@@ -3,6 +3,7 @@ package main
 import (
 	"crypto/ed25519"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -11,6 +12,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"matgate/checks"
+	"matgate/schema"
 	"matgate/worker"
 	"matgate/worker/report"
 )
@@ -121,9 +123,11 @@ type verifyOutcome struct {
 	Failed   []string `json:"failed_checks,omitempty"`
 	Outputs  []string `json:"outputs,omitempty"`
 	Problems []string `json:"problems,omitempty"` // diagnostics or the internal error
-	// Diagnoses say which usual misreading of the card, if any, makes a
-	// failed reference curve match, in the card's own words.
-	Diagnoses []string `json:"diagnoses,omitempty"`
+	// Findings are the record's findings (see checks.Finding): which
+	// usual misreading of the card explains a failed reference curve, or
+	// matches a passing one far better than the card as written; worded in
+	// the card's own terms where the card as written is at hand.
+	Findings []outcomeFinding `json:"findings,omitempty"`
 
 	record *checks.Record
 }
@@ -145,6 +149,13 @@ func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool,
 		return o
 	}
 	out, err := worker.Verify(cmd.Context(), l.card, toolOf(), time.Now().UTC())
+	if errors.Is(err, checks.ErrInvalidSpec) {
+		// A card the verification cannot take (such as a reference too
+		// long to replay): invalid input, not an internal error.
+		o.Status = "invalid"
+		o.Problems = append(o.Problems, specProblem(l, err))
+		return o
+	}
 	if err != nil {
 		return fail(err)
 	}
@@ -154,8 +165,11 @@ func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool,
 		}
 	}
 	o.fromRecord(out.Record)
-	for _, d := range out.Diagnoses {
-		o.Diagnoses = append(o.Diagnoses, d.Describe(l.doc.Card))
+	// The record's findings are the diagnoses in order, worded
+	// canonically; the console words them as the card does.
+	w := worker.Wording(l.doc.Card)
+	for i, d := range out.Diagnoses {
+		o.Findings[i].Text = d.Describe(w)
 	}
 	base := filepath.Join(outDir, fmt.Sprintf("%s-r%d", l.card.ID, l.card.Revision))
 	rec, err := worker.RecordJSON(out.Record)
@@ -185,7 +199,7 @@ func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool,
 	if store != nil {
 		// The same records directory as serve's: the job id of the card
 		// under this tool version, immutable files, a ledger line.
-		id := worker.JobID(l.card.Digest, worker.Settings{ToolVersion: version})
+		id := worker.JobID(l.card.Digest, worker.Settings{ToolVersion: toolOf().Version})
 		if _, err := store.Put(id, worker.MetaOf(out.Record), rec, out.Card); err != nil {
 			return fail(err)
 		}
@@ -200,16 +214,39 @@ func (o verifyOutcome) print(e *env) {
 	}
 	switch o.Status {
 	case "pass", "fail":
-		fmt.Fprintf(e.stdout, "%-4s %s r%d: %d checks, %d failed (%s)\n", o.Status, o.ID, o.Revision, o.Checks, len(o.Failed), o.File)
+		fmt.Fprintf(e.stdout, "%-4s %s r%d: %d checks, %d failed, %d finding(s) (%s)\n", o.Status, o.ID, o.Revision, o.Checks, len(o.Failed), len(o.Findings), o.File)
 		for _, f := range o.Failed {
 			fmt.Fprintf(e.stdout, "     failed: %s\n", f)
 		}
-		for _, d := range o.Diagnoses {
-			fmt.Fprintf(e.stdout, "     diagnosis: %s\n", d)
+		for _, f := range o.Findings {
+			fmt.Fprintf(e.stdout, "     finding: %s\n", f.Text)
 		}
 	default:
 		fmt.Fprintf(e.stdout, "%s %s\n", o.Status, o.File)
 	}
+}
+
+// specProblem words a spec the verification refused, located at the
+// card's reference when it is about one (the spec's references are the
+// card's, in order: worker.Spec).
+func specProblem(l loaded, err error) string {
+	var se *checks.SpecError
+	var i int
+	if errors.As(err, &se) && l.doc != nil {
+		if _, serr := fmt.Sscanf(se.Field, "References[%d]", &i); serr == nil {
+			return l.doc.Diag(schema.SeverityError, fmt.Sprintf("/verification/references/%d", i), "%s", se.Reason).String()
+		}
+	}
+	return fmt.Sprintf("%s: %v", l.file, err)
+}
+
+// outcomeFinding is one finding as `verify --format json` prints it.
+type outcomeFinding struct {
+	Case        string `json:"case"`
+	Check       string `json:"check"`
+	CheckPassed bool   `json:"check_passed"`
+	Misreading  string `json:"misreading,omitempty"`
+	Text        string `json:"text"`
 }
 
 type verifySummary struct {

@@ -201,7 +201,7 @@ verification:
 			t.Errorf("%s: failed checks %v, want only the reference curve's", tc.form, failed)
 		}
 		// The record says which misreading explains the failure.
-		if f, _ := rec["findings"].([]any); tc.want == exitFailed && (len(f) == 0 || !strings.Contains(fmt.Sprint(f...), "read as a plastic modulus")) {
+		if f, _ := rec["findings"].([]any); tc.want == exitFailed && (len(f) == 0 || f[0].(map[string]any)["misreading"] != "tangent-as-plastic") {
 			t.Errorf("%s: findings %v, want the tangent-as-plastic diagnosis", tc.form, rec["findings"])
 		}
 		if tc.want == exitPass && len(failed) != 0 {

@@ -27,12 +27,15 @@ var (
 )
 
 // Render returns a self-contained HTML page of a record: the verdict,
-// the caution, the settings, and per case its checks and an SVG plot of the
-// response with any closed-form or reference overlays. It needs no network.
+// the findings (on failed checks and near misses of passing ones), the
+// caution, the settings, and per case its checks, its findings and an SVG
+// plot of the response with any closed-form or reference overlays. It
+// needs no network.
 func Render(rec *checks.Record) ([]byte, error) {
 	type caseView struct {
 		checks.Case
-		Plots []template.HTML
+		Plots    []template.HTML
+		Findings []checks.Finding
 	}
 	view := struct {
 		R     *checks.Record
@@ -40,6 +43,11 @@ func Render(rec *checks.Record) ([]byte, error) {
 	}{R: rec}
 	for _, c := range rec.Cases {
 		cv := caseView{Case: c}
+		for _, f := range rec.Findings {
+			if f.Case == c.Name {
+				cv.Findings = append(cv.Findings, f)
+			}
+		}
 		if c.Skipped == "" && len(c.Series) > 1 {
 			svg, err := plotCase(c, false)
 			if err != nil {
@@ -163,9 +171,13 @@ body{font-family:system-ui,sans-serif;margin:2em auto;max-width:70em;color:#222}
 .caution{border-left:4px solid #b36b00;padding:.5em 1em;background:#fbf6ee}
 table{border-collapse:collapse;margin:.5em 0}td,th{border:1px solid #ccc;padding:.2em .5em;font-size:.9em;vertical-align:top}
 tr.broke td{background:#fbeae3}.small{color:#555;font-size:.85em}
+.findings,.finding{border-left:4px solid #6a3d7a;padding:.3em 1em;background:#f5f0f7}
 </style></head><body>
 <h1>Verification record: {{.R.Card.ID}} r{{.R.Card.Revision}}</h1>
 <p class="verdict {{.R.Verdict}}">{{.R.Verdict}}</p>
+{{with .R.Findings}}<div class="findings"><h2>Findings</h2>
+<p class="small">Remarks the verdict does not carry: which usual misreading of the card explains a failed reference curve, or matches a passing one far better than the card as written.</p>
+<ul>{{range .}}<li><b>{{.Case}}</b>{{with .Misreading}} ({{.}}){{end}}{{if .CheckPassed}}, check passed{{else}}, check failed{{end}}: {{.Text}}</li>{{end}}</ul></div>{{end}}
 <p class="caution">{{.R.Caution}}</p>
 <table>
 <tr><th>card digest</th><td>{{.R.Card.Digest}}</td></tr>
@@ -183,6 +195,7 @@ tr.broke td{background:#fbeae3}.small{color:#555;font-size:.85em}
 <table><tr><th></th><th>check</th><th>quantity</th><th>value</th><th>reference</th><th>tolerance</th><th>unit</th><th>reference from</th><th>tolerance basis</th></tr>
 {{range .Checks}}<tr{{if not .Pass}} class="broke"{{end}}><td>{{if .Pass}}&#10003;{{else}}&#10007;{{end}}</td><td>{{.Name}}</td><td>{{.Quantity}}</td><td>{{g .Value}}</td><td>{{g .Reference}}</td><td>{{g .Tolerance}} {{.ToleranceKind}}{{with .Bound}} ({{.}}){{end}}</td><td>{{.Unit}}</td><td class="small">{{.ReferenceSource}}</td><td class="small">{{.ToleranceBasis}}</td></tr>
 {{end}}</table>
+{{range .Findings}}<p class="finding">Finding{{with .Misreading}} ({{.}}){{end}}{{if .CheckPassed}} on a passing check{{end}}: {{.Text}}</p>{{end}}
 {{range .Omitted}}<p class="small">Not applicable: {{.Check}}: {{.Why}}</p>{{end}}
 {{end}}{{end}}
 </body></html>

@@ -1,0 +1,87 @@
+package worker
+
+import (
+	"context"
+	"fmt"
+
+	"matgate/checks"
+	"matgate/schema"
+)
+
+// Comparison is the change of the headline response between two revisions
+// of a card (see checks.Responses): both are driven through the older
+// revision's resolved verification loads.
+type Comparison struct {
+	Old     CardRef          `json:"old"`
+	New     CardRef          `json:"new"`
+	Loads   string           `json:"loads"` // the loads both revisions went through, in words
+	Changes []checks.Change  `json:"changes"`
+	Caution string           `json:"caution"`
+	OldResp *checks.Response `json:"-"`
+	NewResp *checks.Response `json:"-"`
+}
+
+// CardRef names one side of a comparison.
+type CardRef struct {
+	File     string `json:"file,omitempty"`
+	ID       string `json:"id"`
+	Revision int    `json:"revision"`
+	Digest   string `json:"digest"`
+}
+
+// Compare computes the Comparison of two canonical cards (as
+// convert.Normalize writes them).
+func Compare(ctx context.Context, old, new *schema.Card) (*Comparison, error) {
+	os, err := Spec(old)
+	if err != nil {
+		return nil, err
+	}
+	ns, err := Spec(new)
+	if err != nil {
+		return nil, err
+	}
+	load, err := os.Resolve()
+	if err != nil {
+		return nil, fmt.Errorf("loads of %s r%d: %w", old.ID, old.Revision, err)
+	}
+	or, err := checks.Responses(ctx, &os.Material, load)
+	if err != nil {
+		return nil, fmt.Errorf("response of %s r%d: %w", old.ID, old.Revision, err)
+	}
+	nr, err := checks.Responses(ctx, &ns.Material, load)
+	if err != nil {
+		return nil, fmt.Errorf("response of %s r%d: %w", new.ID, new.Revision, err)
+	}
+	loads := fmt.Sprintf("those of %s r%d: virgin tension to %v and %g; %d fully reversed cycles at strain amplitudes %v", old.ID, old.Revision, checks.MonotonicStrains, load.MonotonicStrain, load.Cycles, load.StrainAmplitudes)
+	if r := load.Ratcheting; r != nil {
+		loads += fmt.Sprintf("; ratcheting at mean stress %.4g MPa and amplitude %.4g MPa, %d cycles", r.MeanStress/1e6, r.StressAmplitude/1e6, r.Cycles)
+	}
+	if r := load.Relaxation; r != nil {
+		loads += fmt.Sprintf("; relaxation at mean strain %g and amplitude %g, %d cycles", r.MeanStrain, r.StrainAmplitude, r.Cycles)
+	}
+	return &Comparison{
+		Old:     CardRef{ID: old.ID, Revision: old.Revision, Digest: old.Digest},
+		New:     CardRef{ID: new.ID, Revision: new.Revision, Digest: new.Digest},
+		Loads:   loads,
+		Changes: checks.Compare(or, nr),
+		Caution: "A comparison shows how the response of the card changes between revisions under the same loads; it does not show that either revision is fit for design: that stays with the applicable codes and licensed engineers.",
+		OldResp: or, NewResp: nr,
+	}, nil
+}
+
+// Exceeding returns the changes whose relative size exceeds limit, and
+// those whose quantity is defined for one revision only.
+func (c *Comparison) Exceeding(limit float64) []checks.Change {
+	var out []checks.Change
+	for _, ch := range c.Changes {
+		switch {
+		case (ch.Old == nil) != (ch.New == nil):
+			out = append(out, ch)
+		case ch.Rel != nil && (*ch.Rel > limit || *ch.Rel < -limit):
+			out = append(out, ch)
+		case ch.Rel == nil && ch.Abs != nil && *ch.Abs != 0:
+			out = append(out, ch) // from zero to something: no relative size
+		}
+	}
+	return out
+}
