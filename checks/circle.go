@@ -91,7 +91,7 @@ func newCircleState(m *plastic.Material, rho float64) (circleState, error) {
 		sa += 2.0 / 3 * m.Terms[i].C
 	}
 	if !(2*G > sa/8) {
-		return cs, fmt.Errorf("%w: the sum of c over the terms is above 12 G (%.4g Pa), so the steady state may not be unique", errNoSteadyState, 12*G)
+		return cs, fmt.Errorf("%w: the sum of c over the terms is at or above 24 G (%.4g Pa), so the steady state may not be unique", errNoSteadyState, 24*G)
 	}
 	// |D(L)| - q is increasing from 1 - q < 0 at L = 0, and positive at
 	// L = q/(2G - sum a/8) since |Im D| >= (2G - sum a/8) L.

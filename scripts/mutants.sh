@@ -28,13 +28,21 @@ trap 'rm -rf "$work"' EXIT
 sub() {
   local name=$1 file=$2
   FROM=$3 TO=$4 perl -0777 -i -pe '
-    $n = s/\Q$ENV{FROM}\E/$ENV{TO}/g;
+    $n = 0 + s/\Q$ENV{FROM}\E/$ENV{TO}/g;
     END { if ($n != 1) { print STDERR "found $n times (want 1)\n"; exit 3 } }
   ' "$work/src/$file" || {
     echo "mutants.sh: mutant $name: $file: the text to patch is not there exactly once:" >&2
     printf '  %s\n' "$3" >&2
     exit 2
   }
+}
+
+# atReturnMap MUTANT CODE: insert CODE at the start of the 3D return
+# mapping (returnMap, which every 3D step goes through).
+atReturnMap() {
+  local head='func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float64, alg Algorithm, maxIter int, project bool) (StepInfo, error) {'
+  sub "$1" checks/plastic/step3d.go "$head" "$head
+$2"
 }
 
 # The mutants: name, what it breaks, and the patch (a shell function).
@@ -44,10 +52,7 @@ mutant() { names+=("$1"); what[$1]=$2; }
 
 mutant 3d-one-for-two-thirds "3D return mapping: dX = C d eps_p instead of (2/3) C d eps_p (every C of the return scaled by 3/2, consistently), with the matching 3/2 of the dissipation dropped"
 p_3d-one-for-two-thirds() {
-  sub "$1" checks/plastic/step3d.go \
-    'func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float64, alg Algorithm, maxIter int, project bool) (StepInfo, error) {' \
-    'func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float64, alg Algorithm, maxIter int, project bool) (StepInfo, error) {
-	mm := *m
+  atReturnMap "$1" '	mm := *m
 	for i := 0; i < mm.N; i++ {
 		mm.Terms[i].C *= 1.5
 	}
@@ -124,10 +129,7 @@ p_shear-modulus-one-minus-nu() {
 
 mutant 3d-yield-without-three-halves "3D return mapping: the von Mises yield function without its factor sqrt(3/2) (|s - X| <= sigmaY + R), consistently in the elastic test and the scalar equation"
 p_3d-yield-without-three-halves() {
-  sub "$1" checks/plastic/step3d.go \
-    'func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float64, alg Algorithm, maxIter int, project bool) (StepInfo, error) {' \
-    'func (m *Material) returnMap(dst, src *State3D, dEps *[6]float64, D *[6][6]float64, alg Algorithm, maxIter int, project bool) (StepInfo, error) {
-	mm := *m
+  atReturnMap "$1" '	mm := *m
 	mm.SigmaY *= math.Sqrt(1.5)
 	mm.Iso.Q *= math.Sqrt(1.5)
 	mm.Iso.K *= math.Sqrt(1.5)
@@ -153,7 +155,8 @@ run() {
     echo "timed out after ${MUTANT_TIMEOUT:-300} s" >>"$work/log"
   fi
   set -e
-  first=$(grep -m1 -E 'failed: |error|internal|timed out' "$work/log" | sed -e 's/^ *//' | cut -c1-110 || true)
+  first=$(grep -m1 -E 'failed: |error|internal|timed out' "$work/log" | sed -e 's/^ *//' -e 's/^failed: //' | cut -c1-90 || true)
+  cards=$(grep -E '^fail ' "$work/log" | awk '{print $2}' | sed 's/^demo-canopy-//' | paste -sd, - || true)
 }
 
 fresh() {
@@ -169,7 +172,7 @@ if [ "$code" -ne 0 ]; then
   exit 2
 fi
 
-declare -A codes firsts
+declare -A codes firsts failed
 for n in "${names[@]}"; do
   fresh
   "p_$n" "$n"
@@ -177,10 +180,11 @@ for n in "${names[@]}"; do
   run "$n"
   codes[$n]=$code
   firsts[$n]=$first
+  failed[$n]=${cards:--}
 done
 
 survivors=0
-printf '\n%-32s %-5s %-9s %s\n' mutant exit result "first failure"
+printf '\n%-30s %-4s %-8s %-34s %s\n' mutant exit result "cards failed (demo-canopy-...)" "first failed check"
 for n in "${names[@]}"; do
   c=${codes[$n]}
   r=killed
@@ -188,7 +192,7 @@ for n in "${names[@]}"; do
     r=SURVIVED
     survivors=$((survivors + 1))
   fi
-  printf '%-32s %-5s %-9s %s\n' "$n" "$c" "$r" "${firsts[$n]}"
+  printf '%-30s %-4s %-8s %-34s %s\n' "$n" "$c" "$r" "${failed[$n]}" "${firsts[$n]}"
 done
 echo
 for n in "${names[@]}"; do
