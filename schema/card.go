@@ -86,7 +86,7 @@ type Verification struct {
 	Profile          string      `json:"profile,omitempty"`
 	MonotonicStrain  *float64    `json:"monotonic_strain,omitempty"`  // (0, 0.5]
 	StrainAmplitudes []float64   `json:"strain_amplitudes,omitempty"` // each in (0, 0.2]
-	Cycles           *int        `json:"cycles,omitempty"`            // 1..1000
+	Cycles           *int        `json:"cycles,omitempty"`            // 2..1000
 	Ratcheting       *Ratcheting `json:"ratcheting,omitempty"`
 	References       []Reference `json:"references,omitempty"`
 }
@@ -95,7 +95,7 @@ type Verification struct {
 type Ratcheting struct {
 	MeanStress      float64 `json:"mean_stress"`
 	StressAmplitude float64 `json:"stress_amplitude"` // > 0
-	Cycles          int     `json:"cycles"`           // 1..10000
+	Cycles          int     `json:"cycles"`           // 2..10000
 }
 
 // Reference kinds and controls.

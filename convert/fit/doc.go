@@ -3,8 +3,9 @@
 // along each data file's own strain history, monotonic or cyclic, and the
 // squared stress errors are summed and minimized with gonum's optimize
 // (Gauss-Newton steps through optimize.Newton with the Hessian J^T J).
-// Positivity is kept by fitting logarithms; start values come from closed
-// forms. A fit shows that a card reproduces its data; it does not show
-// fitness for design, which stays with the applicable codes and licensed
-// engineers.
+// Positivity is kept by fitting logarithms, and the saturations inside the
+// plausible bound of convert.MaxHardening, so that a fitted card passes
+// check; start values come from closed forms. A fit shows that a card
+// reproduces its data; it does not show fitness for design, which stays
+// with the applicable codes and licensed engineers.
 package fit

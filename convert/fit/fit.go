@@ -13,6 +13,7 @@ import (
 	"gonum.org/v1/gonum/optimize"
 
 	"matgate/checks/plastic"
+	"matgate/convert"
 )
 
 // Model is the form of the card to fit: the back-stress terms and the
@@ -250,10 +251,20 @@ func Fit(ctx context.Context, data []Data, opts Options) (*Result, error) {
 	} else if !(E > 0) || math.IsInf(E, 0) {
 		return nil, fmt.Errorf("fit: Young's modulus %g: must be positive and finite", E)
 	}
+	if E < convert.MinMetalE || E > convert.MaxMetalE {
+		how := "given"
+		if res.EEstimated {
+			how = "estimated from the initial slope"
+		}
+		return nil, fmt.Errorf("%w: Young's modulus %.4g Pa (%s) is outside the range of metals (%g to %g GPa): are the stresses in the stated unit?", ErrBadData, E, how, convert.MinMetalE/1e9, convert.MaxMetalE/1e9)
+	}
 	p := newProblem(ctx, m, E, res.Nu, data)
 	res.Peak = p.scale
 	x0 := startValues(m, E, data)
 	res.Start = p.params(x0)
+	if _, err := p.material(x0); errors.Is(err, errImplausible) {
+		return nil, fmt.Errorf("%w: the data's yield stress of about %.4g Pa is above 0.02 E = %.4g Pa, beyond the strongest metals: is E or the stress unit right?", ErrBadData, res.Start.SigmaY, 0.02*E)
+	}
 	if !p.residuals(x0, p.r) {
 		return nil, fmt.Errorf("%w: the integrator refuses the start values %+v", ErrNoFit, res.Start)
 	}
@@ -310,6 +321,9 @@ func Fit(ctx context.Context, data []Data, opts Options) (*Result, error) {
 		}
 	}
 	res.Params = p.params(x)
+	if h, hMax := saturation(res.Params.Terms, res.Params.Iso), convert.MaxHardening(E, res.Params.SigmaY); h > hMax*(1-1e-3) {
+		res.Warnings = append(res.Warnings, fmt.Sprintf("the saturations (sum c/gamma + q = %.4g Pa) are held at the plausible bound %.4g Pa (yield stress + saturation at most 0.02 E, saturation at most 20 times the yield stress): the data ask for hardening that does not saturate within them; a prager term describes such data", h, hMax))
+	}
 	res.Evaluations = p.evals
 	p.stats(res)
 	res.Warnings = append(res.Warnings, determinacy(m, data, res)...)
@@ -445,6 +459,11 @@ func startValues(m Model, E float64, data []Data) []float64 {
 		sy = 0.7 * peak
 	}
 	S := math.Max(peak-sy, 0.05*sy)
+	// Start inside the plausible bound of the saturations (see
+	// clampSaturation), where the objective is not flat in their scale.
+	if hMax := convert.MaxHardening(E, sy); S > 0.9*hMax && hMax > 0 {
+		S = 0.9 * hMax
+	}
 	X = math.Max(X, 1e-5)
 	P = math.Max(P, X)
 	x0 := []float64{math.Log(sy)}
@@ -585,7 +604,66 @@ func (p *problem) material(x []float64) (plastic.Material, error) {
 	if p.m.Voce {
 		iso = plastic.Isotropic{Kind: plastic.IsoVoce, Q: math.Exp(x[k]), B: math.Exp(x[k+1])}
 	}
-	return plastic.NewMaterial(p.E, p.nu, math.Exp(x[0]), terms[:p.m.Terms], iso)
+	sy := math.Exp(x[0])
+	if !clampSaturation(p.E, sy, terms[:p.m.Terms], &iso) {
+		return plastic.Material{}, errImplausible
+	}
+	return plastic.NewMaterial(p.E, p.nu, sy, terms[:p.m.Terms], iso)
+}
+
+// errImplausible: the yield stress alone is beyond convert.MaxHardening's
+// bound, so no saturation fits under it.
+var errImplausible = errors.New("yield stress above the plausible bound")
+
+// boundMargin keeps fitted saturations this far (relative) inside
+// convert.MaxHardening, so that the card, written with 6 significant
+// digits (5e-7 relative per value), stays inside it too.
+const boundMargin = 1e-4
+
+// clampSaturation keeps the parameters' saturating hardening h = sum
+// C_i/gamma_i + Q inside convert.MaxHardening(E, sy) (less boundMargin):
+// above it, every saturation is scaled by the same factor down to the
+// bound (gamma_i up, C_i kept, so each term's initial slope stays; Q
+// down). Without it a term that does not saturate within the data runs
+// to gamma -> 0 with C/gamma far beyond any metal's strength: a card that
+// check refuses and whose verification cases are sized to match (issue
+// 9). The map from the fitted logarithms to the parameters stays
+// continuous; beyond the bound the objective is flat in the overall scale
+// of the saturations. It returns false when sy alone leaves no room.
+func clampSaturation(E, sy float64, terms []plastic.Term, iso *plastic.Isotropic) bool {
+	hMax := convert.MaxHardening(E, sy) * (1 - boundMargin)
+	if !(hMax > 0) {
+		return false
+	}
+	h := saturation(terms, *iso)
+	if h <= hMax {
+		return true
+	}
+	f := hMax / h
+	for i := range terms {
+		if !terms[i].Linear() {
+			terms[i].Gamma /= f
+		}
+	}
+	if iso.Kind == plastic.IsoVoce {
+		iso.Q *= f
+	}
+	return true
+}
+
+// saturation returns sum C_i/gamma_i + Q over the Armstrong-Frederick
+// terms and Voce's law.
+func saturation(terms []plastic.Term, iso plastic.Isotropic) float64 {
+	h := 0.0
+	for _, t := range terms {
+		if !t.Linear() {
+			h += t.C / t.Gamma
+		}
+	}
+	if iso.Kind == plastic.IsoVoce {
+		h += iso.Q
+	}
+	return h
 }
 
 func (p *problem) params(x []float64) Params {

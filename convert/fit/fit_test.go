@@ -3,12 +3,15 @@ package fit
 import (
 	"context"
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"strings"
 	"testing"
 
 	"matgate/checks/plastic"
+	"matgate/convert"
+	"matgate/schema"
 )
 
 // history returns the strains of a test: a monotonic ramp to epsMax in n
@@ -224,6 +227,9 @@ func TestBadData(t *testing.T) {
 		{"unsorted", []Data{{Name: "a.csv", Points: shuffled}}, "a.csv: the strain reverses at 6 of 8 rows"},
 		{"too few points", []Data{{Name: "a.csv", Points: good[:3]}}, "3 points cannot determine the 3 parameters"},
 		{"no slope", []Data{{Name: "a.csv", Points: [][2]float64{{0, 0}, {0.001, 200e6}, {0.0005, 100e6}, {0.002, 300e6}, {0.003, 300e6}}}}, "cannot estimate Young's modulus"},
+		// Stresses in MPa read as Pa: a slope of about 200 kPa (issue 9: no card
+		// that check refuses).
+		{"stress unit", []Data{{Name: "a.csv", Points: [][2]float64{{0, 0}, {0.001, 200}, {0.002, 300}, {0.004, 320}, {0.006, 330}}}}, "(estimated from the initial slope) is outside the range of metals"},
 	}
 	for _, tc := range cases {
 		model := Model{Terms: 1}
@@ -258,5 +264,52 @@ func TestParseModel(t *testing.T) {
 		if err != nil || m != tc.want {
 			t.Errorf("%s %s: %+v %v, want %+v", tc.kin, tc.iso, m, err, tc.want)
 		}
+	}
+}
+
+// TestSaturationBound: an Armstrong-Frederick fit to linear (Prager) data,
+// whose best fit is gamma -> 0 with C/gamma beyond any metal's strength
+// (issue 9: such a fit wrote c 2000 MPa, gamma 1e-6), stops at the
+// plausible bound of convert.MaxHardening, says so, and gives a card that
+// passes convert's plausibility checks with no error.
+// The fit error is bounded by the bound's own: at saturation s the term
+// s (1 - exp(-C eps_p/s)) is below C eps_p by at most C^2 eps_p^2 / (2 s)
+// (Taylor: 1 - exp(-x) >= x - x^2/2), and the least-squares fit's RMS error
+// is at most that candidate's largest error. Derived here.
+func TestSaturationBound(t *testing.T) {
+	const E, sy, H, epsMax = 200e9, 300e6, 2e9, 0.03
+	m := mustMaterial(t, E, sy, []plastic.Term{{C: H}}, plastic.Isotropic{})
+	data := []Data{generate(t, m, "mono", history(epsMax, 60, 0), 0, nil)}
+	for _, model := range []Model{{Terms: 1}, {Terms: 2}, {Terms: 1, Voce: true}} {
+		res, err := Fit(context.Background(), data, Options{Model: model, E: E})
+		if err != nil {
+			t.Fatalf("%v: %v", model, err)
+		}
+		if !anyContains(res.Warnings, "held at the plausible bound") {
+			t.Errorf("%v: no warning of the bound: %q", model, res.Warnings)
+		}
+		card := fmt.Sprintf("format: matgate.card/1\nid: bound\nrevision: 1\ntitle: t\nsource: fit test\nunits: {stress: Pa}\nelastic: {youngs_modulus: %g, poisson_ratio: 0.3}\nplasticity:\n  yield_stress: %.6g\n  kinematic:\n", E, res.Params.SigmaY)
+		for _, term := range res.Params.Terms {
+			card += fmt.Sprintf("    - {model: armstrong_frederick, c: %.6g, gamma: %.6g}\n", term.C, term.Gamma)
+		}
+		if model.Voce {
+			card += fmt.Sprintf("  isotropic: {model: voce, q: %.6g, b: %.6g}\n", res.Params.Iso.Q, res.Params.Iso.B)
+		}
+		doc, err := schema.Decode("bound.yaml", []byte(card), nil)
+		if err != nil {
+			t.Fatalf("%v: %v\n%s", model, err, card)
+		}
+		// With Voce, monotonic data cannot tell the laws apart and the
+		// kinematic term may collapse (warned as under-determined, and by
+		// check as negligible): no error there, no diagnostic elsewhere.
+		if ds := convert.Plausibility(doc); ds.HasErrors() || (!model.Voce && len(ds) > 0) {
+			t.Errorf("%v: the fitted card draws diagnostics:\n%v\n%s", model, ds, card)
+		}
+		epsP := epsMax - (sy+H*epsMax)/E // largest plastic strain, within 1 %
+		s := 0.02*E - sy                 // the bound of the saturation
+		if bound := H * H * epsP * epsP / (2 * s); res.RMS > bound {
+			t.Errorf("%v: RMS error %.4g Pa above the bound's own %.4g Pa", model, res.RMS, bound)
+		}
+		t.Logf("%v: sy %.6g terms %+v RMS %.3g Pa warnings %q", model, res.Params.SigmaY, res.Params.Terms, res.RMS, res.Warnings)
 	}
 }
