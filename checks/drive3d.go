@@ -75,6 +75,9 @@ func (r *rec3D) visit(_ int, s *plastic.State3D) {
 // into r. A canceled context comes back as ErrCanceled.
 func (r *rec3D) drive(ctx context.Context, m *plastic.Material, st *plastic.State3D, path *plastic.Path3D, set *plastic.Settings) (plastic.Result, error) {
 	res, err := m.Run3D(ctx, st, path, set, r.visit)
+	if r.n%r.stride != 0 {
+		r.record(st) // the last state, when the stride skipped it
+	}
 	if errors.Is(err, plastic.ErrCanceled) {
 		return res, fmt.Errorf("%w: %w", ErrCanceled, ctx.Err())
 	}
