@@ -207,7 +207,10 @@ func (v *verifier) circleOn(ctx context.Context, m3 *plastic.Material, refine in
 	var targets [][6]float64
 	if steadyErr == nil {
 		st = cs.state(0, p0)
-		c.Loading = loading + fmt.Sprintf("; started in the rotating steady state of the closed form (accumulated plastic strain %.4g, where R(p) is saturated)", p0)
+		c.Loading = loading + "; started in the rotating steady state of the closed form"
+		if p0 > 0 {
+			c.Loading += fmt.Sprintf(" at accumulated plastic strain %.4g, where Voce's R(p) is saturated", p0)
+		}
 	} else {
 		c.Loading = loading + fmt.Sprintf("; this card has %v, so the turn starts from the virgin state after a radial ramp to theta = 0", steadyErr)
 		targets = append(targets, cs.strain(0))
