@@ -42,13 +42,7 @@ type Diagnostic struct {
 // CI annotate.
 func (d Diagnostic) String() string {
 	var b strings.Builder
-	b.WriteString(d.File)
-	switch {
-	case d.Pos.Line > 0 && d.Pos.Column > 0:
-		fmt.Fprintf(&b, ":%d:%d", d.Pos.Line, d.Pos.Column)
-	case d.Pos.Line > 0: // the column is unknown (some YAML syntax errors)
-		fmt.Fprintf(&b, ":%d", d.Pos.Line)
-	}
+	b.WriteString(Where(d.File, d.Pos))
 	b.WriteString(": ")
 	if d.Severity == SeverityWarning {
 		b.WriteString("warning: ")
@@ -59,6 +53,18 @@ func (d Diagnostic) String() string {
 	}
 	b.WriteString(d.Message)
 	return b.String()
+}
+
+// Where formats a place in a file as file:line:col, file:line when the
+// column is unknown (some YAML syntax errors), or file alone.
+func Where(file string, p Pos) string {
+	switch {
+	case p.Line > 0 && p.Column > 0:
+		return fmt.Sprintf("%s:%d:%d", file, p.Line, p.Column)
+	case p.Line > 0:
+		return fmt.Sprintf("%s:%d", file, p.Line)
+	}
+	return file
 }
 
 // Diagnostics is a list of problems; as an error it reports all of them.

@@ -12,6 +12,7 @@ import (
 	"net/http"
 	"net/url"
 	"strconv"
+	"strings"
 	"time"
 
 	"github.com/hibiken/asynq"
@@ -202,13 +203,16 @@ func (a *API) submit(w http.ResponseWriter, r *http.Request) {
 		problem(w, r, http.StatusBadRequest, "card does not parse", "Content-Type says JSON, but the body does not start with '{'", nil)
 		return
 	}
-	c, warnings, perr := a.prepare(body)
+	c, ref, warnings, perr := a.prepare(body)
 	if perr != nil {
 		status, title := http.StatusUnprocessableEntity, "invalid card"
 		if perr.syntax {
 			status, title = http.StatusBadRequest, "card does not parse"
 		}
 		problem(w, r, status, title, fmt.Sprintf("%d problem(s) with the card", len(perr.diags)), map[string]any{"errors": perr.diags})
+		return
+	}
+	if !a.libraryRules(w, r, ref) {
 		return
 	}
 	id := JobID(c.Digest, a.c.Settings)
@@ -264,10 +268,38 @@ type prepareError struct {
 	diags  []string
 }
 
+// libraryRules holds a submitted card to the library rules of the records
+// directory (StoreConflicts) and answers 409 Conflict, naming the stored
+// records, when it breaks one; it reports whether the submission may go
+// on. The rules come before the look-up of an existing job, so that a
+// resubmission of an old revision is refused like a new one.
+func (a *API) libraryRules(w http.ResponseWriter, r *http.Request, ref CardRef) bool {
+	cs, err := StoreConflicts(a.c.Store, ref)
+	if err != nil {
+		a.c.Log.Error("records directory", "path", r.URL.Path, "err", err)
+		w.Header().Set("Retry-After", "5")
+		problem(w, r, http.StatusServiceUnavailable, "records directory unavailable", err.Error(), nil)
+		return false
+	}
+	if len(cs) == 0 {
+		return true
+	}
+	diags := make([]string, len(cs))
+	msgs := make([]string, len(cs))
+	records := make([]string, len(cs))
+	for i, c := range cs {
+		diags[i], msgs[i] = c.Diagnostic().String(), c.Message()
+		records[i] = "/v1/records/" + c.Stored.Record
+	}
+	problem(w, r, http.StatusConflict, "library rule", strings.Join(msgs, "; "),
+		map[string]any{"errors": diags, "conflicts": cs, "records": records})
+	return false
+}
+
 // prepare decodes, checks and normalizes a submitted card: the same
 // functions as matgate verify, with reference curves inline (a card over
 // HTTP has no folder to read files from).
-func (a *API) prepare(body []byte) (*schema.Card, []string, *prepareError) {
+func (a *API) prepare(body []byte) (*schema.Card, CardRef, []string, *prepareError) {
 	doc, err := schema.Decode("card", body, &schema.DecodeOptions{MaxBytes: a.c.MaxBody})
 	if err != nil {
 		pe := &prepareError{syntax: doc.Value == nil}
@@ -278,7 +310,7 @@ func (a *API) prepare(body []byte) (*schema.Card, []string, *prepareError) {
 		for _, d := range ds {
 			pe.diags = append(pe.diags, d.String())
 		}
-		return nil, nil, pe
+		return nil, CardRef{}, nil, pe
 	}
 	if p := a.c.DefaultProfile; p != "" {
 		if doc.Card.Verification == nil {
@@ -294,9 +326,9 @@ func (a *API) prepare(body []byte) (*schema.Card, []string, *prepareError) {
 		msgs = append(msgs, d.String())
 	}
 	if c == nil {
-		return nil, nil, &prepareError{diags: msgs}
+		return nil, CardRef{}, nil, &prepareError{diags: msgs}
 	}
-	return c, msgs, nil
+	return c, RefOf(doc, c), msgs, nil
 }
 
 func isJSONText(b []byte) bool {

@@ -21,13 +21,6 @@ type Comparison struct {
 	NewResp *checks.Response `json:"-"`
 }
 
-// CardRef names one side of a comparison.
-type CardRef struct {
-	File     string `json:"file,omitempty"`
-	ID       string `json:"id"`
-	Revision int    `json:"revision"`
-	Digest   string `json:"digest"`
-}
 
 // Compare computes the Comparison of two canonical cards (as
 // convert.Normalize writes them).
@@ -84,4 +77,32 @@ func (c *Comparison) Exceeding(limit float64) []checks.Change {
 		}
 	}
 	return out
+}
+
+// PreviousRevision returns the canonical card of the highest revision of
+// c's id below c's revision in the records directory, or nil when there is
+// none. When several records hold that revision (one per tool version) the
+// latest in the ledger is taken.
+func PreviousRevision(s *DirStore, c *schema.Card) (*schema.Card, error) {
+	entries, n := s.List(c.ID, 0, 0)
+	entries, _ = s.List(c.ID, 0, n)
+	var best *LedgerEntry
+	for i := range entries {
+		e := &entries[i]
+		if e.Revision < c.Revision && (best == nil || e.Revision >= best.Revision) {
+			best = e
+		}
+	}
+	if best == nil {
+		return nil, nil
+	}
+	b, err := s.Card(best.ID)
+	if err != nil {
+		return nil, fmt.Errorf("stored card of %s r%d: %w", c.ID, best.Revision, err)
+	}
+	prev, err := decodeCanonical(b)
+	if err != nil {
+		return nil, fmt.Errorf("stored card of %s r%d: %w", c.ID, best.Revision, err)
+	}
+	return prev, nil
 }

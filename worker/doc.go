@@ -1,8 +1,10 @@
 // Package worker verifies cards and runs the queue service around that one
 // verification: Verify (used by both matgate verify and the queue), the
 // asynq verification and materialize tasks and their idempotent handlers,
-// the durable file record store with its hash-chained ledger, the HTTP API
-// of matgate serve (auth, problem details, metrics) and the submit client.
+// the durable file record store with its hash-chained ledger, the library
+// rules (one content per card id and revision, revisions only go up) that
+// check, verify and serve hold cards to, the HTTP API of matgate serve
+// (auth, problem details, metrics) and the submit client.
 //
 // The queue only moves the payload and stores the outputs: a worker decodes
 // the canonical card of its task, calls Verify, writes the record and the

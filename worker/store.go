@@ -13,6 +13,7 @@ import (
 	"io/fs"
 	"os"
 	"path"
+	"path/filepath"
 	"runtime"
 	"sync"
 	"sync/atomic"
@@ -116,6 +117,43 @@ func OpenDirStore(dir string) (*DirStore, error) {
 	return s, nil
 }
 
+// OpenDirStoreReadOnly opens the records directory dir for reading only,
+// without its write lock, so that it can be read while serve or verify
+// --store writes it: the ledger as it is at the call (a torn last line is
+// left out), and the files it names. dir must be a records directory
+// already (IsRecordsDir). Put on the returned store fails.
+func OpenDirStoreReadOnly(dir string) (*DirStore, error) {
+	if !IsRecordsDir(dir) {
+		return nil, fmt.Errorf("%s is not a records directory (no %s in it)", dir, LedgerName)
+	}
+	root, err := os.OpenRoot(dir)
+	if err != nil {
+		return nil, fmt.Errorf("records directory: %w", err)
+	}
+	s := &DirStore{dir: dir, root: root, index: map[string]int{}}
+	data, err := root.ReadFile(LedgerName)
+	if err != nil {
+		root.Close()
+		return nil, fmt.Errorf("records directory %s: %w", dir, err)
+	}
+	s.entries, s.last, err = parseLedger(data[:bytes.LastIndexByte(data, '\n')+1])
+	if err != nil {
+		root.Close()
+		return nil, fmt.Errorf("records directory %s: %w", dir, err)
+	}
+	for i, e := range s.entries {
+		s.index[e.ID] = i
+	}
+	return s, nil
+}
+
+// IsRecordsDir reports whether dir is a records directory: a folder that
+// holds a ledger.
+func IsRecordsDir(dir string) bool {
+	st, err := os.Stat(filepath.Join(dir, LedgerName))
+	return err == nil && st.Mode().IsRegular()
+}
+
 // parseLedger reads the ledger lines and checks their chain; it returns the
 // entries, the hash of the last line and the first break.
 func parseLedger(data []byte) ([]LedgerEntry, string, error) {
@@ -212,6 +250,9 @@ func (s *DirStore) Put(id string, m RecordMeta, record, card []byte) (added bool
 	defer s.mu.Unlock()
 	if _, ok := s.index[id]; ok {
 		return false, nil
+	}
+	if s.ledger == nil {
+		return false, fmt.Errorf("put %s: the records directory %s is open for reading only", id, s.dir)
 	}
 	if _, err := s.root.Stat(id[:2]); errors.Is(err, fs.ErrNotExist) {
 		if err := s.root.Mkdir(id[:2], 0o755); err != nil && !errors.Is(err, fs.ErrExist) {

@@ -4,6 +4,9 @@ import (
 	"encoding/xml"
 	"fmt"
 	"strconv"
+	"strings"
+
+	"matgate/checks"
 )
 
 // JUnit XML as CI servers read it: one testsuite a card, one testcase a
@@ -21,6 +24,8 @@ type junitSuites struct {
 
 type junitSuite struct {
 	Name     string      `xml:"name,attr"`
+	File     string      `xml:"file,attr,omitempty"`
+	Time     string      `xml:"time,attr,omitempty"` // seconds the card took
 	Tests    int         `xml:"tests,attr"`
 	Failures int         `xml:"failures,attr"`
 	Errors   int         `xml:"errors,attr"`
@@ -31,6 +36,7 @@ type junitSuite struct {
 type junitCase struct {
 	Name      string        `xml:"name,attr"`
 	Classname string        `xml:"classname,attr"`
+	File      string        `xml:"file,attr,omitempty"` // the card file
 	Failure   *junitMessage `xml:"failure,omitempty"`
 	Error     *junitMessage `xml:"error,omitempty"`
 	Skipped   *junitMessage `xml:"skipped,omitempty"`
@@ -48,9 +54,17 @@ func g(v float64) string { return strconv.FormatFloat(v, 'g', 8, 64) }
 
 // junit returns the card's testsuite.
 func (o verifyOutcome) junit() junitSuite {
-	s := junitSuite{Name: o.File}
+	s := junitSuite{Name: o.File, File: o.File}
+	if o.seconds > 0 {
+		s.Time = strconv.FormatFloat(o.seconds, 'f', 3, 64)
+	}
+	// Reporters split a class name at its last dot into package and
+	// class: the card is the package and the case the class, so neither
+	// may carry a dot of its own (a case is named by its amplitude).
+	pkg := "card"
 	if o.ID != "" {
 		s.Name = fmt.Sprintf("%s r%d", o.ID, o.Revision)
+		pkg = fmt.Sprintf("%s-r%d", o.ID, o.Revision)
 	}
 	if o.record == nil {
 		// Invalid card or internal error: one testcase that says why.
@@ -58,7 +72,7 @@ func (o verifyOutcome) junit() junitSuite {
 		for _, p := range o.Problems {
 			body += p + "\n"
 		}
-		jc := junitCase{Name: "card", Classname: s.Name}
+		jc := junitCase{Name: "card", Classname: pkg + ".card", File: o.File}
 		msg := &junitMessage{Message: o.Status + ": " + o.File, Body: body}
 		if o.Status == "invalid" {
 			jc.Failure = msg
@@ -71,31 +85,46 @@ func (o verifyOutcome) junit() junitSuite {
 		return s
 	}
 	for _, cs := range o.record.Cases {
-		class := s.Name + "." + cs.Name
+		class := pkg + "." + strings.ReplaceAll(cs.Name, ".", "_")
 		if cs.Skipped != "" {
-			s.Cases = append(s.Cases, junitCase{Name: cs.Name, Classname: class, Skipped: &junitMessage{Message: cs.Skipped}})
+			s.Cases = append(s.Cases, junitCase{Name: cs.Name, Classname: class, File: o.File, Skipped: &junitMessage{Message: cs.Skipped}})
 			s.Skipped++
 			continue
 		}
 		for _, ck := range cs.Checks {
-			jc := junitCase{Name: ck.Name, Classname: class}
+			jc := junitCase{Name: ck.Name, Classname: class, File: o.File}
+			var findings string
+			for _, f := range o.Findings {
+				if f.Case == cs.Name && f.Check == ck.Name {
+					findings += "finding: " + f.Text + "\n"
+				}
+			}
 			if !ck.Pass {
 				jc.Failure = &junitMessage{
-					Message: fmt.Sprintf("%s: value %s %s, reference %s %s, tolerance %s (%s)", ck.Quantity, g(ck.Value), ck.Unit, g(ck.Reference), ck.Unit, g(ck.Tolerance), ck.ToleranceKind),
-					Body:    fmt.Sprintf("reference from: %s\ntolerance basis: %s\n", ck.ReferenceSource, ck.ToleranceBasis),
+					Message: fmt.Sprintf("%s: value %s %s, reference %s %s, %s", ck.Quantity, g(ck.Value), ck.Unit, g(ck.Reference), ck.Unit, toleranceText(ck)),
+					Body:    fmt.Sprintf("%sreference from: %s\ntolerance basis: %s\n", findings, ck.ReferenceSource, ck.ToleranceBasis),
 				}
 				s.Failures++
 			}
-			for _, f := range o.Findings {
-				if f.Case == cs.Name && f.Check == ck.Name {
-					jc.SystemOut += "finding: " + f.Text + "\n"
-				}
-			}
+			jc.SystemOut = findings
 			s.Cases = append(s.Cases, jc)
 		}
 	}
 	s.Tests = len(s.Cases)
 	return s
+}
+
+// toleranceText words a check's tolerance as its comparison uses it.
+func toleranceText(ck checks.Check) string {
+	switch {
+	case ck.ToleranceKind == "rel":
+		return fmt.Sprintf("tolerance %s relative to the reference", g(ck.Tolerance))
+	case ck.Bound == "upper":
+		return fmt.Sprintf("at most %s %s above the reference", g(ck.Tolerance), ck.Unit)
+	case ck.Bound == "lower":
+		return fmt.Sprintf("at most %s %s below the reference", g(ck.Tolerance), ck.Unit)
+	}
+	return fmt.Sprintf("tolerance %s %s", g(ck.Tolerance), ck.Unit)
 }
 
 func writeJUnit(path string, suites []junitSuite) error {

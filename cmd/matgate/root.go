@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"sync"
 
 	"github.com/spf13/cobra"
 )
@@ -12,6 +13,11 @@ import (
 type env struct {
 	stdin          io.Reader
 	stdout, stderr io.Writer
+
+	// stdin as read by readLimited, once.
+	stdinOnce sync.Once
+	stdinData []byte
+	stdinErr  error
 }
 
 // Exit codes, one meaning each, for CI.

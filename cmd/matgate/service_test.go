@@ -159,6 +159,19 @@ func TestServiceCommands(t *testing.T) {
 	if code != exitInvalid || !strings.Contains(stdout, "/elastic/poisson_ratio") || !strings.Contains(stdout, "1 passed, 0 failed, 1 invalid") || strings.Contains(stderr, "submitted demo-canopy-aluminium") {
 		t.Errorf("submit with an invalid card: exit %d\n%s%s", code, stdout, stderr)
 	}
+	// A card that changes a stored id and revision is refused by serve
+	// (409, a library rule) and reported as invalid (exit 2), as is the
+	// later of two cards of one id and revision in one submission.
+	unbumped := filepath.Join(dir, "unbumped.yaml")
+	os.WriteFile(unbumped, []byte(strings.Replace(string(b), "yield_stress: 40", "yield_stress: 41", 1)), 0o644)
+	code, stdout, stderr = matgate(t, "", "submit", "--server", "http://"+addr, "--out", out, unbumped)
+	if code != exitInvalid || !strings.Contains(stdout, "409 Conflict") || !strings.Contains(stdout, "card:5:11: /revision: card demo-canopy-aluminium revision 2 has a stored record") {
+		t.Errorf("submit of a changed card without a new revision: exit %d\n%s%s", code, stdout, stderr)
+	}
+	code, stdout, stderr = matgate(t, "", "submit", "--server", "http://"+addr, "--out", out, "../../testdata/cards/al-bilinear.yaml", unbumped)
+	if code != exitInvalid || !strings.Contains(stdout, unbumped+":5:11: /revision: card demo-canopy-aluminium revision 2 is also in ../../testdata/cards/al-bilinear.yaml:5:11") || strings.Count(stderr, "submitted demo-canopy-aluminium") != 1 {
+		t.Errorf("submit of two cards of one revision: exit %d\n%s%s", code, stdout, stderr)
+	}
 	// A wrong token is a service error (exit 3).
 	t.Setenv("MATGATE_TOKEN", secret+"x")
 	if code, _, errOut := matgate(t, "", "submit", "--server", "http://"+addr, "--out", out, "../../testdata/cards/steel-prager.json"); code != exitInternal || !strings.Contains(errOut, "401") {

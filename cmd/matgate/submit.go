@@ -51,7 +51,7 @@ references; it does not show fitness for design.`,
 			if timeout <= 0 {
 				return &usageError{fmt.Errorf("--timeout %v: want a positive duration", timeout)}
 			}
-			names, err := expandInputs(args)
+			names, err := expandInputs(args, outDir)
 			if err != nil {
 				return err
 			}
@@ -103,6 +103,7 @@ type submitter struct {
 }
 
 func (s *submitter) run(ctx context.Context, names []string) error {
+	lib := worker.NewLibrary(nil) // the rule of the run; serve holds each card to its records (409)
 	for i, n := range names {
 		it := &submitItem{}
 		s.items = append(s.items, it)
@@ -116,6 +117,13 @@ func (s *submitter) run(ctx context.Context, names []string) error {
 			continue
 		}
 		it.o.ID, it.o.Revision = l.card.ID, l.card.Revision
+		if cs, _ := lib.Add(worker.RefOf(l.doc, l.card)); len(cs) > 0 { // no store: no error
+			for _, c := range cs {
+				it.o.Problems = append(it.o.Problems, c.Diagnostic().String())
+			}
+			it.o.Status = "invalid"
+			continue
+		}
 		body, media, err := submission(s.e, n, l)
 		if err != nil {
 			it.fail(err)
@@ -125,7 +133,7 @@ func (s *submitter) run(ctx context.Context, names []string) error {
 		switch {
 		case worker.IsProblem(err, http.StatusUnauthorized, http.StatusForbidden):
 			return &exitError{code: exitInternal, err: fmt.Errorf("%s: %w (check MATGATE_TOKEN and its scopes)", s.client.BaseURL, err)}
-		case worker.IsProblem(err, http.StatusBadRequest, http.StatusUnprocessableEntity, http.StatusRequestEntityTooLarge):
+		case worker.IsProblem(err, http.StatusBadRequest, http.StatusConflict, http.StatusUnprocessableEntity, http.StatusRequestEntityTooLarge):
 			it.o.Status = "invalid"
 			it.o.Problems = append(it.o.Problems, err.Error())
 			continue

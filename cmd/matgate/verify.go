@@ -5,8 +5,10 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
+	"strings"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -22,8 +24,9 @@ var commit = "unknown"
 
 func newVerifyCmd(e *env) *cobra.Command {
 	var (
-		outDir, junitPath, signKey, format, storeDir string
-		withReport                                   bool
+		outDir, junitPath, signKey, format, storeDir, summaryPath string
+		withReport, force                                         bool
+		jobs                                                      int
 	)
 	c := &cobra.Command{
 		Use:   "verify FILE|DIR|-...",
@@ -39,7 +42,17 @@ reference integrator and writes, per card, into --out:
 
 With --store DIR each record and neutral card also goes into the records
 directory DIR, as matgate serve keeps it (immutable files named by job id,
-a hash-chained ledger; check it with matgate ledger verify DIR).
+a hash-chained ledger; check it with matgate ledger verify DIR). A card
+whose job (card digest and tool version) already has a record there is not
+verified again: the stored record is reused and said to be (--force
+verifies again). The library rules hold across the run and the store: one
+content per id and revision, a changed card bumps its revision, no revision
+below the latest stored one. When the store holds an earlier revision of a
+card, verify prints how the response changed (see matgate compare).
+
+Cards are verified on --jobs cores at once (default: all); results are
+printed in the order of the inputs. --summary FILE writes a Markdown
+summary for CI job pages.
 
 Exit 0 when every card passes, 1 when a verification failed, 2 when a card is
 invalid, 3 on an internal error. Invalid cards never stop the others.
@@ -58,7 +71,10 @@ references; it does not show fitness for design.`,
 					return invalid("--sign-key: %v", err)
 				}
 			}
-			names, err := expandInputs(args)
+			if err := checkJobs(jobs); err != nil {
+				return err
+			}
+			names, err := expandInputs(args, outDir)
 			if err != nil {
 				return err
 			}
@@ -72,18 +88,43 @@ references; it does not show fitness for design.`,
 				}
 				defer store.Close()
 			}
+			var ls worker.LibraryStore // a nil interface without --store
+			if store != nil {
+				ls = store
+			}
+			conflicts, err := libraryConflicts(cmd.Context(), e, names, jobs, worker.NewLibrary(ls))
+			if err != nil {
+				return &exitError{code: exitInternal, err: err}
+			}
+			opts := verifyOptions{outDir: outDir, withReport: withReport, priv: priv, store: store, storeDir: storeDir, force: force}
 			var sum verifySummary
 			var suites []junitSuite
-			for i, n := range names {
-				if len(names) > 1 {
-					fmt.Fprintf(e.stderr, "[%d/%d] %s\n", i+1, len(names), n)
+			err = inOrder(cmd.Context(), len(names), jobs,
+				func(i int) verifyOutcome {
+					if cs := conflicts[i]; cs != nil {
+						return conflictOutcome(cs)
+					}
+					return verifyOne(cmd, e, names[i], opts)
+				},
+				func(i int, o verifyOutcome) error {
+					if len(names) > 1 {
+						fmt.Fprintf(e.stderr, "[%d/%d] %s\n", i+1, len(names), names[i])
+					}
+					if format == "text" {
+						o.print(e)
+					}
+					suites = append(suites, o.junit())
+					o.record = nil // JUnit has what it needs; hold no record
+					sum.add(o)
+					return nil
+				})
+			if err != nil {
+				return &exitError{code: exitInternal, err: err}
+			}
+			if summaryPath != "" {
+				if err := writeFileAtomic(summaryPath, sum.markdown()); err != nil {
+					return &exitError{code: exitInternal, err: err}
 				}
-				o := verifyOne(cmd, e, n, outDir, withReport, priv, store, storeDir)
-				sum.add(o)
-				if format == "text" {
-					o.print(e)
-				}
-				suites = append(suites, o.junit())
 			}
 			if junitPath != "" {
 				if err := writeJUnit(junitPath, suites); err != nil {
@@ -97,8 +138,12 @@ references; it does not show fitness for design.`,
 					return err
 				}
 			} else {
-				fmt.Fprintf(e.stdout, "%d card(s): %d passed, %d failed, %d invalid, %d error(s); outputs in %s\n",
-					len(names), sum.passed, sum.failed, sum.invalid, sum.internal, outDir)
+				reused := ""
+				if sum.reused > 0 {
+					reused = fmt.Sprintf(" (%d reused from the store)", sum.reused)
+				}
+				fmt.Fprintf(e.stdout, "%d card(s): %d passed, %d failed, %d invalid, %d error(s)%s; outputs in %s\n",
+					len(names), sum.passed, sum.failed, sum.invalid, sum.internal, reused, outDir)
 				fmt.Fprintln(e.stdout, "Verification is not fitness for design: defer to the applicable codes and licensed engineers.")
 			}
 			return sum.err()
@@ -109,7 +154,10 @@ references; it does not show fitness for design.`,
 	c.Flags().StringVar(&junitPath, "junit", "", "write JUnit XML to this file (one test case a check)")
 	c.Flags().StringVar(&signKey, "sign-key", "", "sign each record with this ed25519 private key (PEM, PKCS #8)")
 	c.Flags().StringVar(&format, "format", "text", "output format: text or json")
-	c.Flags().StringVar(&storeDir, "store", "", "also keep each record and neutral card in this records directory (as serve does: immutable files and a ledger)")
+	c.Flags().StringVar(&storeDir, "store", "", "also keep each record and neutral card in this records directory (as serve does: immutable files and a ledger); reuse the records it holds")
+	c.Flags().BoolVar(&force, "force", false, "with --store: verify again cards whose record is already stored")
+	c.Flags().IntVar(&jobs, "jobs", defaultJobs(), "cards verified at once; the default is every core the process may use")
+	c.Flags().StringVar(&summaryPath, "summary", "", "write a Markdown summary (verdicts, failed checks, findings, revision comparisons) to this file")
 	return c
 }
 
@@ -128,11 +176,39 @@ type verifyOutcome struct {
 	// matches a passing one far better than the card as written; worded in
 	// the card's own terms where the card as written is at hand.
 	Findings []outcomeFinding `json:"findings,omitempty"`
+	// Reused names the stored record (job id) that was reused instead of
+	// verifying the card again (verify --store).
+	Reused string `json:"reused,omitempty"`
+	// Comparison is the change of the response from the latest earlier
+	// revision in the store (verify --store), when there is one.
+	Comparison *worker.Comparison `json:"comparison,omitempty"`
 
-	record *checks.Record
+	record  *checks.Record
+	seconds float64 // how long the card took (JUnit's time), not in the JSON
 }
 
-func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool, priv ed25519.PrivateKey, store *worker.DirStore, storeDir string) verifyOutcome {
+// verifyOptions are the settings verifyOne shares across the cards.
+type verifyOptions struct {
+	outDir, storeDir string
+	withReport       bool
+	force            bool
+	priv             ed25519.PrivateKey
+	store            *worker.DirStore
+}
+
+// conflictOutcome is the outcome of a card that breaks a library rule: it
+// is invalid and not verified, so it writes nothing.
+func conflictOutcome(cs []worker.Conflict) verifyOutcome {
+	c := cs[0].Card
+	o := verifyOutcome{File: c.File, ID: c.ID, Revision: c.Revision, Status: "invalid"}
+	for _, c := range cs {
+		o.Problems = append(o.Problems, c.Diagnostic().String())
+	}
+	return o
+}
+
+func verifyOne(cmd *cobra.Command, e *env, name string, opt verifyOptions) verifyOutcome {
+	outDir, store := opt.outDir, opt.store
 	l := loadCard(e, name)
 	o := verifyOutcome{File: l.file}
 	for _, d := range l.diags {
@@ -148,7 +224,26 @@ func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool,
 		o.Problems = append(o.Problems, err.Error())
 		return o
 	}
+	id := worker.JobID(l.card.Digest, worker.Settings{ToolVersion: toolOf().Version})
+	base := filepath.Join(outDir, fmt.Sprintf("%s-r%d", l.card.ID, l.card.Revision))
+	if store != nil {
+		prev, err := worker.PreviousRevision(store, l.card)
+		if err != nil {
+			return fail(err)
+		}
+		if prev != nil {
+			if o.Comparison, err = worker.Compare(cmd.Context(), prev, l.card); err != nil {
+				return fail(err)
+			}
+			o.Comparison.New.File = l.file
+		}
+		if !opt.force && store.Has(id) {
+			return reuseStored(o, store, id, base, opt.withReport)
+		}
+	}
+	start := time.Now()
 	out, err := worker.Verify(cmd.Context(), l.card, toolOf(), time.Now().UTC())
+	o.seconds = time.Since(start).Seconds()
 	if errors.Is(err, checks.ErrInvalidSpec) {
 		// A card the verification cannot take (such as a reference too
 		// long to replay): invalid input, not an internal error.
@@ -159,8 +254,8 @@ func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool,
 	if err != nil {
 		return fail(err)
 	}
-	if priv != nil {
-		if err := out.Record.Sign(priv); err != nil {
+	if opt.priv != nil {
+		if err := out.Record.Sign(opt.priv); err != nil {
 			return fail(err)
 		}
 	}
@@ -171,7 +266,6 @@ func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool,
 	for i, d := range out.Diagnoses {
 		o.Findings[i].Text = d.Describe(w)
 	}
-	base := filepath.Join(outDir, fmt.Sprintf("%s-r%d", l.card.ID, l.card.Revision))
 	rec, err := worker.RecordJSON(out.Record)
 	if err != nil {
 		return fail(err)
@@ -183,7 +277,7 @@ func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool,
 	for _, t := range out.Tables {
 		files[base+"."+t.Name+".csv"] = t.CSV()
 	}
-	if withReport {
+	if opt.withReport {
 		html, err := report.Render(out.Record)
 		if err != nil {
 			return fail(err)
@@ -199,11 +293,10 @@ func verifyOne(cmd *cobra.Command, e *env, name, outDir string, withReport bool,
 	if store != nil {
 		// The same records directory as serve's: the job id of the card
 		// under this tool version, immutable files, a ledger line.
-		id := worker.JobID(l.card.Digest, worker.Settings{ToolVersion: toolOf().Version})
 		if _, err := store.Put(id, worker.MetaOf(out.Record), rec, out.Card); err != nil {
 			return fail(err)
 		}
-		o.Outputs = append(o.Outputs, filepath.Join(storeDir, id[:2], id+".record.json"))
+		o.Outputs = append(o.Outputs, filepath.Join(opt.storeDir, id[:2], id+".record.json"))
 	}
 	return o
 }
@@ -214,12 +307,19 @@ func (o verifyOutcome) print(e *env) {
 	}
 	switch o.Status {
 	case "pass", "fail":
-		fmt.Fprintf(e.stdout, "%-4s %s r%d: %d checks, %d failed, %d finding(s) (%s)\n", o.Status, o.ID, o.Revision, o.Checks, len(o.Failed), len(o.Findings), o.File)
+		reused := ""
+		if o.Reused != "" {
+			reused = ", stored record reused"
+		}
+		fmt.Fprintf(e.stdout, "%-4s %s r%d: %d checks, %d failed, %d finding(s)%s (%s)\n", o.Status, o.ID, o.Revision, o.Checks, len(o.Failed), len(o.Findings), reused, o.File)
 		for _, f := range o.Failed {
 			fmt.Fprintf(e.stdout, "     failed: %s\n", f)
 		}
 		for _, f := range o.Findings {
 			fmt.Fprintf(e.stdout, "     finding: %s\n", f.Text)
+		}
+		if c := o.Comparison; c != nil {
+			fmt.Fprintf(e.stdout, "     response vs r%d: %s\n", c.Old.Revision, headlineChanges(c))
 		}
 	default:
 		fmt.Fprintf(e.stdout, "%s %s\n", o.Status, o.File)
@@ -250,12 +350,15 @@ type outcomeFinding struct {
 }
 
 type verifySummary struct {
-	passed, failed, invalid, internal int
-	outcomes                          []verifyOutcome
+	passed, failed, invalid, internal, reused int
+	outcomes                                  []verifyOutcome
 }
 
 func (s *verifySummary) add(o verifyOutcome) {
 	s.outcomes = append(s.outcomes, o)
+	if o.Reused != "" {
+		s.reused++
+	}
 	switch o.Status {
 	case "pass":
 		s.passed++
@@ -279,4 +382,62 @@ func (s *verifySummary) err() error {
 		return &exitError{code: exitFailed}
 	}
 	return nil
+}
+
+// reuseStored completes o from the stored record of job id instead of
+// verifying again, and writes the stored record and neutral card (and,
+// with the report, its HTML) into the output folder.
+func reuseStored(o verifyOutcome, store *worker.DirStore, id, base string, withReport bool) verifyOutcome {
+	fail := func(err error) verifyOutcome {
+		o.Status = "error"
+		o.Problems = append(o.Problems, fmt.Sprintf("stored record %s: %v", id, err))
+		return o
+	}
+	rec, err := store.Record(id)
+	if err != nil {
+		return fail(err)
+	}
+	card, err := store.Card(id)
+	if err != nil {
+		return fail(err)
+	}
+	r, err := checks.ParseRecord(rec)
+	if err != nil {
+		return fail(err)
+	}
+	o.fromRecord(r)
+	o.Reused = id
+	files := map[string][]byte{base + ".record.json": rec, base + ".card.json": card}
+	if withReport {
+		html, err := report.Render(r)
+		if err != nil {
+			return fail(err)
+		}
+		files[base+".report.html"] = html
+	}
+	for _, p := range sortedKeys(files) {
+		if err := writeFileAtomic(p, files[p]); err != nil {
+			return fail(err)
+		}
+		o.Outputs = append(o.Outputs, p)
+	}
+	return o
+}
+
+// headlineChanges words the changes of a comparison of at least 0.1 %
+// (relative), for the one line verify prints per card.
+func headlineChanges(c *worker.Comparison) string {
+	var parts []string
+	for _, ch := range c.Changes {
+		switch {
+		case (ch.Old == nil) != (ch.New == nil):
+			parts = append(parts, ch.Name+" "+ch.Note)
+		case ch.Rel != nil && math.Abs(*ch.Rel) >= 1e-3:
+			parts = append(parts, fmt.Sprintf("%s %s", ch.Name, displayRel(ch.Rel)))
+		}
+	}
+	if len(parts) == 0 {
+		return "no headline quantity changed by 0.1 % or more"
+	}
+	return strings.Join(parts, "; ")
 }

@@ -60,6 +60,19 @@ func TestVerifyDemoCards(t *testing.T) {
 	if len(js.Suites) != 4 || js.Tests < 4*20 || js.Failures != 0 {
 		t.Errorf("junit: %d suites, %d tests, %d failures", len(js.Suites), js.Tests, js.Failures)
 	}
+	// Reporters split a class name at its last dot: one dot, between the
+	// card and the case (the amplitudes in case names carry dots); every
+	// testcase names its card file, every suite its time (issue 10).
+	for _, su := range js.Suites {
+		if su.File == "" || su.Time == "" {
+			t.Errorf("junit suite %s: file %q, time %q", su.Name, su.File, su.Time)
+		}
+		for _, c := range su.Cases {
+			if strings.Count(c.Classname, ".") != 1 || c.File != su.File {
+				t.Errorf("junit testcase %s: classname %q, file %q", c.Name, c.Classname, c.File)
+			}
+		}
+	}
 	report, _ := os.ReadFile(filepath.Join(out1, "demo-canopy-stainless-r1.report.html"))
 	for _, want := range []string{"<svg", html.EscapeString(checks.Caution), "demo-canopy-stainless"} {
 		if !strings.Contains(string(report), want) {
