@@ -20,7 +20,7 @@ type demo struct {
 	spec Spec
 }
 
-// demoSpecs are the specs of the three demo cards of testdata/cards, the
+// demoSpecs are the specs of the four demo cards of testdata/cards, the
 // numbers copied from the files and converted to Pa here.
 func demoSpecs(t testing.TB) []demo {
 	t.Helper()
@@ -41,10 +41,28 @@ func demoSpecs(t testing.TB) []demo {
 	}, plastic.Isotropic{Kind: plastic.IsoVoce, Q: 60 * mpa, B: 6})
 	// steel-prager.json: GPa, plastic modulus H = 2 GPa.
 	st := mat(205*gpa, 0.3, 0.355*gpa, []plastic.Term{{C: 2 * gpa}}, plastic.Isotropic{})
+	// hanger-mixed.yaml: MPa, a linear term given as tangent modulus Et =
+	// 10000 MPa next to an Armstrong-Frederick term, and a reference
+	// history (the card's own response, rounded to 0.01 MPa).
+	Eh, Eth := 206000*mpa, 10000*mpa
+	hg := mat(Eh, 0.29, 420*mpa, []plastic.Term{{C: Eh * Eth / (Eh - Eth)}, {C: 90000 * mpa, Gamma: 600}}, plastic.Isotropic{})
+	hgPts := [][2]float64{{0, 0}, {0.0025, 449.43}, {0.005, 556.40}, {0.0075, 608.01},
+		{0.01, 640.05}, {0.0125, 666.78}, {0.015, 692.20}, {0.0175, 717.30},
+		{0.02, 742.32}, {0.0225, 767.33}, {0.025, 792.33}, {0.0225, 277.33},
+		{0.02, -132.32}, {0.0175, -292.59}, {0.015, -371.35}, {0.0125, -412.06},
+		{0.01, -441.05}, {0.0075, -467.02}, {0.005, -492.26}, {0.0025, -517.31},
+		{0, -542.33}, {-0.0025, -567.33}, {-0.005, -592.33}, {-0.0075, -617.33},
+		{-0.01, -642.33}}
+	for i := range hgPts {
+		hgPts[i][1] *= mpa
+	}
 	return []demo{
 		{"al-bilinear", Spec{Material: al, Profile: "standard"}},
 		{"ss-chaboche", Spec{Material: ss, Profile: "standard", StrainAmplitudes: []float64{0.004, 0.008},
 			Ratcheting: &Ratcheting{MeanStress: 60 * mpa, StressAmplitude: 260 * mpa, Cycles: 20}}},
 		{"steel-prager", Spec{Material: st, Profile: "standard"}},
+		{"hanger-mixed", Spec{Material: hg, Profile: "standard", StrainAmplitudes: []float64{0.005, 0.01},
+			Ratcheting: &Ratcheting{MeanStress: 50 * mpa, StressAmplitude: 460 * mpa, Cycles: 20},
+			References: []Reference{{Name: "tension-reversal", Kind: "solver", Control: "strain", Points: hgPts, Tol: 0.005}}}},
 	}
 }

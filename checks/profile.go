@@ -42,7 +42,9 @@ type profile struct {
 	// incPerBranch: at least this many increments per branch of a cycle
 	// (resolution of the loop area and of the plotted loop).
 	incPerBranch int
-	// angleInc: increments per cycle of the tension-torsion circle.
+	// angleInc: increments (chords) per turn of the circular strain path
+	// of the non-proportional 3D case; its chord error falls with the
+	// square of the angle (see circleOn).
 	angleInc   int
 	substepTol float64
 	driverTol  float64
@@ -50,12 +52,12 @@ type profile struct {
 
 var profiles = map[string]profile{
 	// standard: the yield strain in 10 increments, 40 increments a branch,
-	// 5-degree increments on the tension-torsion circle; the integrator's
+	// 1/8-degree increments on the circular strain path; the integrator's
 	// default iteration tolerances.
-	"standard": {name: "standard", incPerYield: 10, incPerBranch: 40, angleInc: 72, substepTol: 1e-9, driverTol: 1e-11},
+	"standard": {name: "standard", incPerYield: 10, incPerBranch: 40, angleInc: 2880, substepTol: 1e-9, driverTol: 1e-11},
 	// strict: four times finer increments, iteration tolerances 100 times
 	// tighter.
-	"strict": {name: "strict", incPerYield: 40, incPerBranch: 160, angleInc: 288, substepTol: 1e-11, driverTol: 1e-13},
+	"strict": {name: "strict", incPerYield: 40, incPerBranch: 160, angleInc: 11520, substepTol: 1e-11, driverTol: 1e-13},
 }
 
 func (p profile) settings() *plastic.Settings {

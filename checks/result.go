@@ -26,7 +26,7 @@ type Settings struct {
 	StressIncrement  float64       `json:"stress_increment"`  // max stress increment of the stress-controlled cases, Pa
 	SubstepTol       float64       `json:"substep_tol"`       // plastic.Settings.SubstepTol (3D), relative to sigmaY
 	DriverTol        float64       `json:"driver_tol"`        // stress residual of the controlled increments, relative to sigmaY
-	AngleIncrements  int           `json:"angle_increments"`  // increments per cycle of the tension-torsion circle
+	AngleIncrements  int           `json:"angle_increments"`  // increments per turn of the circular strain path
 	MonotonicStrain  float64       `json:"monotonic_strain"`  //
 	StrainAmplitudes []float64     `json:"strain_amplitudes"` //
 	Cycles           int           `json:"cycles"`            // of the fully reversed cases
@@ -65,6 +65,8 @@ type Case struct {
 	// run its first and last 200 increments (see downsample).
 	Series []Sample `json:"series"`
 	Curves []Curve  `json:"curves,omitempty"`
+
+	tracked []tracked // quantities compared by the convergence rerun only
 }
 
 // Check is one comparison.
@@ -123,6 +125,15 @@ type Curve struct {
 	Name   string       `json:"name"`
 	Source string       `json:"source"`
 	Points [][2]float64 `json:"points"`
+}
+
+// tracked is a quantity that only the step-size convergence rerun compares
+// (a case without a closed form for it).
+type tracked struct {
+	name         string
+	value        float64
+	tol          float64 // absolute
+	toleranceWhy string
 }
 
 // Errors of Run. A failed check is not an error.

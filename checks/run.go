@@ -32,7 +32,7 @@ func (v *verifier) run(ctx context.Context) (*Result, error) {
 			continue
 		}
 		c, set, err := cs.fn(ctx, 1)
-		if err == nil && !cs.ownConvergence {
+		if err == nil {
 			var fine Case
 			var fset CaseSetting
 			fine, fset, err = cs.fn(ctx, 2)
@@ -68,8 +68,6 @@ type caseSpec struct {
 	name, kind, loading string
 	skip                string
 	fn                  caseFn
-	ownConvergence      bool // the case makes its own refinement study
-
 }
 
 func (v *verifier) cases() []caseSpec {
@@ -91,7 +89,7 @@ func (v *verifier) cases() []caseSpec {
 	cs = append(cs,
 		caseSpec{name: "3d-uniaxial-stress", fn: v.uniaxial3D},
 		caseSpec{name: "3d-pure-shear", fn: v.pureShear},
-		caseSpec{name: "3d-tension-torsion-90", fn: v.tensionTorsion, ownConvergence: true})
+		caseSpec{name: "3d-circular-strain-path", fn: v.circle})
 	for _, r := range v.spec.References {
 		cs = append(cs, caseSpec{name: "reference-" + r.Name, fn: v.reference(r)})
 	}
@@ -123,7 +121,7 @@ func (v *verifier) settings() Settings {
 }
 
 // addConvergence appends the step-size convergence check of c from its
-// rerun at half the increment. For each checked quantity q with tolerance
+// rerun at half the increment. For each checked or tracked quantity q with tolerance
 // t(h) at the increment h (each a bound on the distance of q(h) from the
 // true value when its check passes), the triangle inequality gives
 //
@@ -135,26 +133,34 @@ func (v *verifier) settings() Settings {
 // rerun (seen at 1.007 for the trapezoid loop area).
 func addConvergence(c, fine *Case) {
 	worst, name, count := 0.0, "", 0
+	cmp := func(n string, a, b, tolA, tolB float64) {
+		count++
+		r := math.Abs(a-b) / (tolA + tolB)
+		if math.IsNaN(r) { // both tolerances zero and equal values
+			r = 0
+			if a != b {
+				r = math.Inf(1)
+			}
+		}
+		if r > worst || name == "" {
+			worst, name = r, n
+		}
+	}
 	for i := range c.Checks {
 		ch := &c.Checks[i]
 		if !ch.converge {
 			continue
 		}
 		for j := range fine.Checks {
-			f := &fine.Checks[j]
-			if f.Name != ch.Name {
-				continue
+			if f := &fine.Checks[j]; f.Name == ch.Name {
+				cmp(ch.Name, ch.Value, f.Value, ch.absTol(), f.absTol())
 			}
-			count++
-			r := math.Abs(ch.Value-f.Value) / (ch.absTol() + f.absTol())
-			if math.IsNaN(r) { // both tolerances zero and equal values
-				r = 0
-				if ch.Value != f.Value {
-					r = math.Inf(1)
-				}
-			}
-			if r > worst || name == "" {
-				worst, name = r, ch.Name
+		}
+	}
+	for _, t := range c.tracked {
+		for _, f := range fine.tracked {
+			if f.name == t.name {
+				cmp(t.name, t.value, f.value, t.tol, f.tol)
 			}
 		}
 	}

@@ -148,3 +148,30 @@ func TestIssue9Cards(t *testing.T) {
 		})
 	}
 }
+
+// memory is the remaining memory of the virgin state at accumulated
+// plastic strain p under a common plastic-strain history, in Pa:
+//
+//	sum_AF (2 C_i/gamma_i) exp(-gamma_i p) + |Q| exp(-b p)
+//
+// (derived here: two solutions of d alpha = C d eps_p - gamma alpha dp
+// differ by their initial difference times exp(-gamma p)); +Inf under
+// linear isotropic hardening. It is no bound under strain control (the
+// plastic strain history moves with the state; the stabilized checks use
+// transientTail instead); TestCircleSteadyStateAttracts uses it to choose
+// how many turns to run before it compares with the steady state.
+func memory(m *plastic.Material, p float64) float64 {
+	if m.Iso.Kind == plastic.IsoLinear && m.Iso.K > 0 {
+		return math.Inf(1)
+	}
+	s := 0.0
+	for i := 0; i < m.N; i++ {
+		if t := m.Terms[i]; !t.Linear() {
+			s += 2 * t.C / t.Gamma * math.Exp(-t.Gamma*p)
+		}
+	}
+	if m.Iso.Kind == plastic.IsoVoce {
+		s += math.Abs(m.Iso.Q) * math.Exp(-m.Iso.B*p)
+	}
+	return s
+}

@@ -86,8 +86,8 @@ func TestNormalizeIdempotent(t *testing.T) {
 		}
 		texts[filepath.Base(f)] = string(b)
 	}
-	if len(texts) < 5 {
-		t.Fatalf("expected the three demo cards in ../testdata/cards, found %d texts", len(texts))
+	if len(texts) < 6 {
+		t.Fatalf("expected the four demo cards in ../testdata/cards and two inline cards, found %d texts", len(texts))
 	}
 	for name, text := range texts {
 		t.Run(name, func(t *testing.T) {

@@ -82,7 +82,7 @@ func TestCheckDemoCards(t *testing.T) {
 	if code != exitPass {
 		t.Fatalf("exit %d\n%s%s", code, out, errOut)
 	}
-	if !strings.Contains(out, "3 card(s): 3 valid, 0 invalid") {
+	if !strings.Contains(out, "4 card(s): 4 valid, 0 invalid") {
 		t.Errorf("summary missing:\n%s", out)
 	}
 	// The same card through stdin.

@@ -108,7 +108,7 @@ func TestServiceCommands(t *testing.T) {
 	out := filepath.Join(dir, "out")
 	junit := filepath.Join(dir, "junit.xml")
 	code, stdout, stderr := matgate(t, "", "submit", "--server", "http://"+addr, "--out", out, "--junit", junit, "--timeout", "2m", "../../testdata/cards")
-	if code != exitPass || !strings.Contains(stdout, "3 card(s): 3 passed") {
+	if code != exitPass || !strings.Contains(stdout, "4 card(s): 4 passed") {
 		t.Fatalf("submit: exit %d\n%s%s\nserve:\n%s", code, stdout, stderr, serveLog)
 	}
 	if !strings.Contains(stderr, "submitted demo-canopy-steel r4") {
@@ -122,7 +122,7 @@ func TestServiceCommands(t *testing.T) {
 	if code, o, e := matgate(t, "", "verify", "--out", local, "--store", localStore, "../../testdata/cards"); code != exitPass {
 		t.Fatalf("verify: exit %d %s%s", code, o, e)
 	}
-	for _, base := range []string{"demo-canopy-aluminium-r2", "demo-canopy-stainless-r1", "demo-canopy-steel-r4"} {
+	for _, base := range []string{"demo-canopy-aluminium-r2", "demo-canopy-hanger-r1", "demo-canopy-stainless-r1", "demo-canopy-steel-r4"} {
 		a, b := readRecord(t, filepath.Join(out, base+".record.json")), readRecord(t, filepath.Join(local, base+".record.json"))
 		for _, k := range []string{"created", "digest"} {
 			delete(a, k)
@@ -138,11 +138,11 @@ func TestServiceCommands(t *testing.T) {
 		}
 	}
 	for _, d := range []string{store, localStore} {
-		if code, o, _ := matgate(t, "", "ledger", "verify", d); code != 0 || !strings.Contains(o, "intact") || !strings.Contains(o, "3 record(s), 6 file(s)") {
+		if code, o, _ := matgate(t, "", "ledger", "verify", d); code != 0 || !strings.Contains(o, "intact") || !strings.Contains(o, "4 record(s), 8 file(s)") {
 			t.Errorf("ledger verify %s: exit %d %s", d, code, o)
 		}
 	}
-	if a, b := storeFiles(t, store), storeFiles(t, localStore); strings.Join(a, " ") != strings.Join(b, " ") || len(a) != 6 {
+	if a, b := storeFiles(t, store), storeFiles(t, localStore); strings.Join(a, " ") != strings.Join(b, " ") || len(a) != 8 {
 		t.Errorf("records directories hold different files:\n serve  %v\n verify %v", a, b)
 	}
 	// A second submission is answered from the records (303) and gives

@@ -28,7 +28,7 @@ func TestVerifyDemoCards(t *testing.T) {
 	if code, stdout, stderr := matgate(t, "", "verify", "--out", out2, "../../testdata/cards"); code != exitPass {
 		t.Fatalf("second verify: exit %d\n%s%s", code, stdout, stderr)
 	}
-	for _, base := range []string{"demo-canopy-aluminium-r2", "demo-canopy-stainless-r1", "demo-canopy-steel-r4"} {
+	for _, base := range []string{"demo-canopy-aluminium-r2", "demo-canopy-hanger-r1", "demo-canopy-stainless-r1", "demo-canopy-steel-r4"} {
 		for _, ext := range []string{".record.json", ".card.json", ".monotonic.csv", ".cyclic.csv", ".report.html"} {
 			if _, err := os.Stat(filepath.Join(out1, base+ext)); err != nil {
 				t.Errorf("missing output: %v", err)
@@ -57,7 +57,7 @@ func TestVerifyDemoCards(t *testing.T) {
 	if err := xml.Unmarshal(b, &js); err != nil {
 		t.Fatalf("junit: %v", err)
 	}
-	if len(js.Suites) != 3 || js.Tests < 3*20 || js.Failures != 0 {
+	if len(js.Suites) != 4 || js.Tests < 4*20 || js.Failures != 0 {
 		t.Errorf("junit: %d suites, %d tests, %d failures", len(js.Suites), js.Tests, js.Failures)
 	}
 	// Reporters split a class name at its last dot: one dot, between the
