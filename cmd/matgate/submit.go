@@ -2,9 +2,12 @@ package main
 
 import (
 	"context"
+	"encoding/json"
 	"fmt"
 	"io"
+	"net"
 	"net/http"
+	"net/url"
 	"os"
 	"path/filepath"
 	"strings"
@@ -27,10 +30,16 @@ func newSubmitCmd(e *env) *cobra.Command {
 		Use:   "submit FILE|DIR...",
 		Short: "Submit cards to a matgate server, wait, and download the records",
 		Long: `submit checks each card locally, submits the valid ones to the server,
-waits up to --timeout for their verifications, and writes, per card, into
---out the same record and neutral card files as matgate verify:
+waits up to --timeout for their verifications and for the server to store
+their records, and writes, per card, into --out the same record and neutral
+card files as matgate verify:
 
   <id>-r<revision>.record.json    <id>-r<revision>.card.json
+
+The file names come from the cards submit read, never from the server. A
+downloaded record is taken only when its own digest holds and it names the
+card id, revision and card digest that submit computed; the neutral card
+likewise. Anything else is a service error.
 
 The token is read from the environment variable MATGATE_TOKEN only (a flag
 would show in process lists and CI logs); it needs the submit and read
@@ -38,7 +47,8 @@ scopes. A card whose reference curves are files is sent in its canonical
 form, with the curves inline.
 
 Exit 0 when every card passes, 1 when a verification failed, 2 when a card
-is invalid, 3 on a service error or when --timeout ran out.
+is invalid, 3 on a service error, a record that does not check out, or
+when --timeout ran out (for example while the server cannot store records).
 
 Verification shows that a card is integrated consistently and matches its
 references; it does not show fitness for design.`,
@@ -50,6 +60,13 @@ references; it does not show fitness for design.`,
 			}
 			if timeout <= 0 {
 				return &usageError{fmt.Errorf("--timeout %v: want a positive duration", timeout)}
+			}
+			plain, err := plainRemote(server)
+			if err != nil {
+				return &usageError{fmt.Errorf("--server %q: %w", server, err)}
+			}
+			if plain {
+				fmt.Fprintf(e.stderr, "warning: --server %s is plain http to another machine: the token and the records travel unencrypted and can be read or changed on the way; use https\n", server)
 			}
 			names, err := expandInputs(args)
 			if err != nil {
@@ -90,8 +107,9 @@ references; it does not show fitness for design.`,
 }
 
 type submitItem struct {
-	o   verifyOutcome
-	job string // "" when not submitted
+	o      verifyOutcome
+	digest string // the card digest submit computed
+	job    string // "" when not submitted
 }
 
 type submitter struct {
@@ -115,7 +133,7 @@ func (s *submitter) run(ctx context.Context, names []string) error {
 			it.o.Status = "invalid"
 			continue
 		}
-		it.o.ID, it.o.Revision = l.card.ID, l.card.Revision
+		it.o.ID, it.o.Revision, it.digest = l.card.ID, l.card.Revision, l.card.Digest
 		body, media, err := submission(s.e, n, l)
 		if err != nil {
 			it.fail(err)
@@ -193,6 +211,8 @@ func (s *submitter) wait(ctx context.Context) error {
 				it.fail(fmt.Errorf("job %s: %w", it.job, err))
 			case j.State == worker.JobFailed:
 				it.fail(fmt.Errorf("job %s failed after %d attempt(s): %s", it.job, j.Attempts, j.LastError))
+			case j.State == worker.JobDone && !j.Stored:
+				continue // verified, not yet a file in the records directory
 			case j.State == worker.JobDone:
 				if err := s.download(ctx, it); err != nil {
 					it.fail(err)
@@ -214,7 +234,7 @@ func (s *submitter) wait(ctx context.Context) error {
 			}
 			for _, it := range s.items {
 				if it.job != "" && it.o.Status == "" {
-					it.fail(fmt.Errorf("job %s not finished when --timeout ran out (%v)", it.job, ctx.Err()))
+					it.fail(fmt.Errorf("job %s not finished and stored when --timeout ran out (%v); the job's state: %s", it.job, ctx.Err(), s.client.BaseURL+"/v1/jobs/"+it.job))
 				}
 			}
 			return nil
@@ -228,23 +248,44 @@ func (s *submitter) wait(ctx context.Context) error {
 	return nil
 }
 
+// download fetches a finished job's record and neutral card and writes
+// them under names built from the card submit sent. Nothing the server
+// says is used as a path, and both files must be of that card: the
+// record's digest holds and it names the card's id, revision and digest.
 func (s *submitter) download(ctx context.Context, it *submitItem) error {
 	rec, err := s.client.Get(ctx, "/v1/records/"+it.job)
 	if err != nil {
 		return fmt.Errorf("record %s: %w", it.job, err)
 	}
+	r, err := checks.ParseRecord(rec)
+	if err == nil {
+		err = r.VerifyIntegrity(nil)
+	}
+	if err == nil {
+		err = it.sameCard(r.Card.ID, r.Card.Revision, r.Card.Digest)
+	}
+	if err != nil {
+		return fmt.Errorf("record %s refused: %w", it.job, err)
+	}
 	card, err := s.client.Get(ctx, "/v1/records/"+it.job+"/card")
 	if err != nil {
 		return fmt.Errorf("card %s: %w", it.job, err)
 	}
-	r, err := checks.ParseRecord(rec)
+	var nc struct {
+		ID       string `json:"id"`
+		Revision int    `json:"revision"`
+		Digest   string `json:"digest"`
+	}
+	err = json.Unmarshal(card, &nc)
+	if err == nil {
+		err = it.sameCard(nc.ID, nc.Revision, nc.Digest)
+	}
 	if err != nil {
-		return fmt.Errorf("record %s: %w", it.job, err)
+		return fmt.Errorf("neutral card %s refused: %w", it.job, err)
 	}
-	if err := r.VerifyIntegrity(nil); err != nil {
-		return fmt.Errorf("record %s: %w", it.job, err)
-	}
-	base := filepath.Join(s.out, fmt.Sprintf("%s-r%d", r.Card.ID, r.Card.Revision))
+	// it.o.ID passed the card schema's id pattern, ^[a-z0-9][a-z0-9._-]*$:
+	// a plain file name.
+	base := filepath.Join(s.out, fmt.Sprintf("%s-r%d", it.o.ID, it.o.Revision))
 	for _, f := range []struct {
 		path string
 		b    []byte
@@ -256,6 +297,33 @@ func (s *submitter) download(ctx context.Context, it *submitItem) error {
 	}
 	it.o.fromRecord(r)
 	return nil
+}
+
+// sameCard reports whether a downloaded file names the card submit sent.
+func (it *submitItem) sameCard(id string, revision int, digest string) error {
+	if id != it.o.ID || revision != it.o.Revision || digest != it.digest {
+		return fmt.Errorf("it is of card %q r%d %s, but submit sent %s r%d %s (a server of another matgate version, or not the server it claims to be)",
+			id, revision, digest, it.o.ID, it.o.Revision, it.digest)
+	}
+	return nil
+}
+
+// plainRemote checks a server URL and reports whether it is plain http to
+// a host other than this machine's loopback.
+func plainRemote(server string) (bool, error) {
+	u, err := url.Parse(server)
+	if err != nil {
+		return false, err
+	}
+	if (u.Scheme != "http" && u.Scheme != "https") || u.Host == "" {
+		return false, fmt.Errorf("want http(s)://host[:port]")
+	}
+	if u.Scheme == "https" {
+		return false, nil
+	}
+	h := u.Hostname()
+	ip := net.ParseIP(h)
+	return !(h == "localhost" || ip != nil && ip.IsLoopback()), nil
 }
 
 // fromRecord fills the outcome's verdict and check counts from a record.
