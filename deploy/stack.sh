@@ -49,6 +49,7 @@ server:
   listen: 127.0.0.1:$http_port
 store:
   dir: $dir/records
+  create: true
 auth:
   tokens:
     - name: demo

@@ -48,7 +48,7 @@ func (m *Materializer) ProcessTask(ctx context.Context, t *asynq.Task) error {
 		return fmt.Errorf("materialize %s: the record is neither in Redis nor in the records directory: %w", p.ID, asynq.SkipRetry)
 	}
 	meta := p.Meta
-	if meta.CardID == "" {
+	if meta.CardID == "" || meta.Digest == "" { // none, or from a worker before the ledger kept digests
 		if meta, err = metaFromJSON([]byte(rec)); err != nil {
 			return fmt.Errorf("materialize %s: %w: %w", p.ID, err, asynq.SkipRetry)
 		}

@@ -9,7 +9,6 @@ import (
 	"github.com/hibiken/asynq"
 	"github.com/spf13/cobra"
 
-	"matgate/checks"
 	"matgate/worker"
 )
 
@@ -43,7 +42,7 @@ see deploy/matgate.example.yaml.`,
 			if n == 0 {
 				n = runtime.NumCPU()
 			}
-			h := &worker.Handler{Redis: rdb, Queue: client, Tool: checks.Tool{Version: version, Commit: commit}, Budget: cfg.Verify.Budget}
+			h := &worker.Handler{Redis: rdb, Queue: client, Tool: toolOf(), Budget: cfg.Verify.Budget}
 			srv, mux := worker.NewVerifyServer(rdb, h, worker.ServerOptions{
 				Concurrency: n, ShutdownTimeout: cfg.Server.ShutdownTimeout,
 				Logger: asynqLogger{log}, LogLevel: asynq.WarnLevel,
