@@ -6,7 +6,9 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"syscall"
 	"testing"
+	"time"
 )
 
 // TestRecordVerifyStrict: a field the record format does not define fails
@@ -61,6 +63,41 @@ func TestRecordVerifyStrict(t *testing.T) {
 			if !strings.Contains(out, w) {
 				t.Errorf("%s: output does not say %q:\n%s", tc.name, w, out)
 			}
+		}
+	}
+}
+
+// TestReferenceFIFO: a reference "file" that is a FIFO is refused as not
+// a regular file (exit 2) by check and verify; reading it would block
+// until some writer opened it, that is, for ever.
+func TestReferenceFIFO(t *testing.T) {
+	dir := t.TempDir()
+	b, err := os.ReadFile("../../testdata/cards/ss-chaboche.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	card := filepath.Join(dir, "card.yaml")
+	os.WriteFile(card, []byte(strings.Replace(string(b), "  profile: standard\n",
+		"  profile: standard\n  references:\n    - {name: pipe, kind: measured, file: tension.csv}\n", 1)), 0o644)
+	if err := syscall.Mkfifo(filepath.Join(dir, "tension.csv"), 0o644); err != nil {
+		t.Skipf("cannot make a FIFO here: %v", err)
+	}
+	for _, args := range [][]string{{"check", card}, {"verify", "--out", filepath.Join(dir, "out"), card}} {
+		cmd := args[0]
+		done := make(chan struct{})
+		var code int
+		var out string
+		go func() {
+			defer close(done)
+			code, out, _ = matgate(t, "", args...)
+		}()
+		select {
+		case <-done:
+		case <-time.After(time.Minute): // a guard against a hang, not a timing
+			t.Fatalf("%s blocks on a FIFO reference file", cmd)
+		}
+		if code != exitInvalid || !strings.Contains(out, "tension.csv is not a regular file") {
+			t.Errorf("%s: exit %d, want %d with the reason\n%s", cmd, code, exitInvalid, out)
 		}
 	}
 }
