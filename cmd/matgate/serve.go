@@ -71,7 +71,7 @@ func serve(ctx context.Context, e *env, cfg *Config, ready func(addr string)) er
 	if err != nil {
 		return invalid("configuration: %v", err)
 	}
-	msrv, mux := worker.NewMaterializeServer(rdb, &worker.Materializer{Redis: rdb, Store: store, Observe: metrics.Duration.Observe},
+	msrv, mux := worker.NewMaterializeServer(rdb, &worker.Materializer{Redis: rdb, Store: store, Observe: metrics.Duration.Observe, Log: log},
 		worker.ServerOptions{ShutdownTimeout: cfg.Server.ShutdownTimeout, Logger: asynqLogger{log}, LogLevel: asynq.WarnLevel})
 	if err := msrv.Start(mux); err != nil {
 		return &exitError{code: exitInternal, err: fmt.Errorf("materialize queue: %w", err)}
