@@ -75,10 +75,12 @@ type DirStore struct {
 	ledger  storeFile
 	size    int64  // length of the ledger's whole lines: where the next append goes
 	torn    bool   // a failed append may have left bytes after size
-	fault   error  // the last write that failed, until one succeeds
 	last    string // hex sha256 of the last ledger line
 	entries []LedgerEntry
 	index   map[string]int // id -> position in entries
+
+	faultMu sync.Mutex // not mu: Ping must answer while a Put waits on the disk
+	fault   error      // the last write that failed, until one succeeds
 }
 
 // storeFile is what the store writes through: an *os.File, or in tests a
@@ -130,8 +132,11 @@ func OpenStore(dir string, o StoreOptions) (*DirStore, error) {
 		}
 	}
 	root, err := os.OpenRoot(dir)
+	if errors.Is(err, fs.ErrNotExist) && !o.Create {
+		return nil, fmt.Errorf("records directory %s: %w (a volume that is not mounted? set store.create: true once to make a new one)", dir, err)
+	}
 	if err != nil {
-		return nil, fmt.Errorf("records directory %s: %w (not mounted? set store.create to make a new one)", dir, err)
+		return nil, fmt.Errorf("records directory %s: %w", dir, err)
 	}
 	s := &DirStore{dir: dir, root: root, index: map[string]int{}, log: o.Log, wrap: o.wrap}
 	fail := func(err error) (*DirStore, error) {
@@ -229,7 +234,7 @@ func (s *DirStore) mark(legacy bool) error {
 			return err
 		}
 		for _, d := range des {
-			if n := d.Name(); n != ".lock" && n != LedgerName {
+			if n := d.Name(); n != ".lock" && n != LedgerName && n != "lost+found" { // lost+found: the root of a new ext4 volume
 				return fmt.Errorf("not a records directory (no %s) and not empty (%s): refusing to make one here", StoreMarker, n)
 			}
 		}
@@ -409,13 +414,15 @@ func (s *DirStore) Put(id string, m RecordMeta, record, card []byte) (added bool
 	if _, ok := s.index[id]; ok {
 		return false, nil
 	}
-	if err := s.put(id, m, record, card); err != nil {
-		if !errors.Is(err, ErrConflict) {
-			s.fault = err
-		}
+	err = s.put(id, m, record, card)
+	if !errors.Is(err, ErrConflict) {
+		s.faultMu.Lock()
+		s.fault = err
+		s.faultMu.Unlock()
+	}
+	if err != nil {
 		return false, fmt.Errorf("put %s: %w", id, err)
 	}
-	s.fault = nil
 	return true, nil
 }
 
@@ -529,9 +536,9 @@ func (s *DirStore) List(cardID string, offset, limit int) ([]LedgerEntry, int) {
 // Ping reports whether the directory is still there and readable, and
 // the last write's error while no write has succeeded since.
 func (s *DirStore) Ping() error {
-	s.mu.Lock()
+	s.faultMu.Lock()
 	fault := s.fault
-	s.mu.Unlock()
+	s.faultMu.Unlock()
 	if fault != nil {
 		return fmt.Errorf("the last write failed: %w", fault)
 	}

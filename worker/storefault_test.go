@@ -217,6 +217,15 @@ func TestStoreOpen(t *testing.T) {
 		t.Errorf("foreign marker: %v", err)
 	}
 
+	// The root of a new ext4 volume holds lost+found: that is empty.
+	vol := filepath.Join(base, "vol")
+	os.MkdirAll(filepath.Join(vol, "lost+found"), 0o700)
+	if s, err := OpenStore(vol, StoreOptions{Create: true}); err != nil {
+		t.Errorf("a new volume's root: %v", err)
+	} else {
+		s.Close()
+	}
+
 	// Made with Create, then opened without: fine.
 	dir := filepath.Join(base, "records")
 	var log bytes.Buffer

@@ -89,6 +89,8 @@ cannot be read.`,
 				report("note", "unsigned: the record carries no signature, so nothing shows who made it (--require-signature fails it)")
 			case pub == nil:
 				report("note", "signed by key "+rec.Signature.KeyID+"; signature not checked: no --public-key")
+			case errors.Is(err, checks.ErrDigestMismatch) || errors.Is(err, checks.ErrBadRecord):
+				report("FAIL", "signature of key "+rec.Signature.KeyID+" not checked: the digest it signs does not hold")
 			case err != nil:
 				report("FAIL", "signature: "+err.Error())
 			default:

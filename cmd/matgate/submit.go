@@ -1,8 +1,8 @@
 package main
 
 import (
+	"bytes"
 	"context"
-	"encoding/json"
 	"fmt"
 	"io"
 	"net"
@@ -38,8 +38,9 @@ card files as matgate verify:
 
 The file names come from the cards submit read, never from the server. A
 downloaded record is taken only when its own digest holds and it names the
-card id, revision and card digest that submit computed; the neutral card
-likewise. Anything else is a service error.
+card id, revision and card digest that submit computed, and the neutral
+card only when it is the one submit computes. Anything else is a service
+error.
 
 The token is read from the environment variable MATGATE_TOKEN only (a flag
 would show in process lists and CI logs); it needs the submit and read
@@ -107,9 +108,10 @@ references; it does not show fitness for design.`,
 }
 
 type submitItem struct {
-	o      verifyOutcome
-	digest string // the card digest submit computed
-	job    string // "" when not submitted
+	o       verifyOutcome
+	digest  string // the card digest submit computed
+	neutral []byte // the neutral card submit computed
+	job     string // "" when not submitted
 }
 
 type submitter struct {
@@ -135,6 +137,9 @@ func (s *submitter) run(ctx context.Context, names []string) error {
 		}
 		it.o.ID, it.o.Revision, it.digest = l.card.ID, l.card.Revision, l.card.Digest
 		body, media, err := submission(s.e, n, l)
+		if err == nil {
+			it.neutral, err = convert.Indented(l.card)
+		}
 		if err != nil {
 			it.fail(err)
 			continue
@@ -271,17 +276,8 @@ func (s *submitter) download(ctx context.Context, it *submitItem) error {
 	if err != nil {
 		return fmt.Errorf("card %s: %w", it.job, err)
 	}
-	var nc struct {
-		ID       string `json:"id"`
-		Revision int    `json:"revision"`
-		Digest   string `json:"digest"`
-	}
-	err = json.Unmarshal(card, &nc)
-	if err == nil {
-		err = it.sameCard(nc.ID, nc.Revision, nc.Digest)
-	}
-	if err != nil {
-		return fmt.Errorf("neutral card %s refused: %w", it.job, err)
+	if !bytes.Equal(card, it.neutral) {
+		return fmt.Errorf("neutral card %s refused: it is not the canonical form of the card submit sent", it.job)
 	}
 	// it.o.ID passed the card schema's id pattern, ^[a-z0-9][a-z0-9._-]*$:
 	// a plain file name.

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bytes"
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
@@ -21,21 +22,34 @@ import (
 
 // TestSubmitTrustsNothing runs submit against a fake server that answers
 // one card with a record whose card id is a path out of --out (its digest
-// recomputed, so the digest alone does not catch it) and another with the
-// genuine record of a different card. Both are refused, nothing is
-// written for them, nothing at all outside --out, and submit exits 3; the
-// third card's genuine record is taken, so the checks do not refuse
+// recomputed, so the digest alone does not catch it), another with the
+// genuine record of a different card, a third with its genuine record and
+// an edited neutral card. All three are refused, nothing is written for
+// them, nothing at all outside --out, and submit exits 3; the fourth
+// card's genuine outputs are taken, so the checks do not refuse
 // everything.
 func TestSubmitTrustsNothing(t *testing.T) {
 	cards := map[string]string{ // file -> what the fake server answers
 		"steel-prager.json": "escape",
 		"al-bilinear.yaml":  "foreign",
+		"al-other.yaml":     "edited neutral card",
 		"ss-chaboche.yaml":  "genuine",
+	}
+	src := t.TempDir()
+	for _, f := range []string{"steel-prager.json", "al-bilinear.yaml", "ss-chaboche.yaml"} {
+		b, err := os.ReadFile(filepath.Join("../../testdata/cards", f))
+		if err != nil {
+			t.Fatal(err)
+		}
+		os.WriteFile(filepath.Join(src, f), b, 0o644)
+		if f == "al-bilinear.yaml" {
+			os.WriteFile(filepath.Join(src, "al-other.yaml"), []byte(strings.Replace(string(b), "id: demo-canopy-aluminium\n", "id: demo-canopy-aluminium-other\n", 1)), 0o644)
+		}
 	}
 	e := &env{stdin: strings.NewReader(""), stdout: io.Discard, stderr: io.Discard}
 	outputs := map[string]*worker.Outputs{}
 	for f := range cards {
-		l := loadCard(e, filepath.Join("../../testdata/cards", f))
+		l := loadCard(e, filepath.Join(src, f))
 		if !l.valid() {
 			t.Fatalf("%s: %v", f, l.diags)
 		}
@@ -62,6 +76,11 @@ func TestSubmitTrustsNothing(t *testing.T) {
 			o = &worker.Outputs{Record: &r, Card: o.Card}
 		case "foreign":
 			o = outputs["steel-prager.json"]
+		case "edited neutral card":
+			o = &worker.Outputs{Record: o.Record, Card: []byte(strings.Replace(string(o.Card), `"poisson_ratio": 0.33`, `"poisson_ratio": 0.23`, 1))}
+			if bytes.Equal(o.Card, outputs[f].Card) {
+				t.Fatal("the neutral card was not edited")
+			}
 		}
 		rec, err := worker.RecordJSON(o.Record)
 		if err != nil {
@@ -112,11 +131,11 @@ func TestSubmitTrustsNothing(t *testing.T) {
 	out := filepath.Join(dir, "a", "b", "out")
 	t.Setenv("MATGATE_TOKEN", "mgt_fake")
 	code, stdout, stderr := matgate(t, "", "submit", "--server", srv.URL, "--out", out, "--timeout", "1m",
-		"../../testdata/cards/steel-prager.json", "../../testdata/cards/al-bilinear.yaml", "../../testdata/cards/ss-chaboche.yaml")
+		src)
 	if code != exitInternal {
 		t.Errorf("exit %d, want %d\n%s%s", code, exitInternal, stdout, stderr)
 	}
-	for _, want := range []string{`of card "../../escaped" r4`, `of card "demo-canopy-steel" r4`, "1 passed, 0 failed, 0 invalid, 2 error(s)"} {
+	for _, want := range []string{`of card "../../escaped" r4`, `of card "demo-canopy-steel" r4`, "not the canonical form of the card submit sent", "1 passed, 0 failed, 0 invalid, 3 error(s)"} {
 		if !strings.Contains(stdout, want) {
 			t.Errorf("submit's output does not say %q:\n%s", want, stdout)
 		}
