@@ -20,7 +20,7 @@ repo=$(cd "$(dirname "$0")/.." && pwd)
 running() { [ -f "$dir/$1.pid" ] && kill -0 "$(cat "$dir/$1.pid")" 2>/dev/null; }
 
 start() {
-  mkdir -p "$dir/redis" "$dir/records"
+  mkdir -p "$dir/redis"
   dir=$(cd "$dir" && pwd)
   command -v redis-server >/dev/null || { echo "stack: redis-server not found (apt-get install redis-server)" >&2; exit 3; }
   for p in redis serve worker; do
@@ -29,9 +29,15 @@ start() {
   echo "stack: building matgate"
   (cd "$repo" && GOFLAGS=-buildvcs=false go build -ldflags "-X main.version=stack-$(date -u +%Y%m%d)" -o "$dir/matgate" ./cmd/matgate)
 
-  echo "stack: redis-server on 127.0.0.1:$redis_port (appendonly, appendfsync always, noeviction)"
+  echo "stack: redis-server on 127.0.0.1:$redis_port (appendonly, appendfsync always, noeviction, a password)"
+  # A random password, kept out of process lists: an included file and the
+  # configuration, both mode 600.
+  umask 077
+  [ -s "$dir/redis-auth.conf" ] || echo "requirepass $(od -An -N32 -tx1 /dev/urandom | tr -d ' \n')" >"$dir/redis-auth.conf"
+  umask 022
+  export REDISCLI_AUTH=$(sed -n 's/^requirepass //p' "$dir/redis-auth.conf")
   redis-server "$repo/deploy/redis.conf" --port "$redis_port" --bind 127.0.0.1 --dir "$dir/redis" \
-    --daemonize no --logfile "$dir/redis.log" >"$dir/redis.out" 2>&1 &
+    --include "$dir/redis-auth.conf" --daemonize no --logfile "$dir/redis.log" >"$dir/redis.out" 2>&1 &
   echo $! >"$dir/redis.pid"
   for _ in $(seq 100); do
     redis-cli -p "$redis_port" ping >/dev/null 2>&1 && break
@@ -42,9 +48,10 @@ start() {
   "$dir/matgate" token new demo --scopes submit,read >"$dir/token.txt"
   token=$(grep -o 'mgt_[A-Za-z0-9_-]*' "$dir/token.txt")
   hash=$(sed -n 's/^ *sha256: //p' "$dir/token.txt")
+  touch "$dir/matgate.yaml" && chmod 600 "$dir/matgate.yaml"
   cat >"$dir/matgate.yaml" <<CONF
 redis:
-  url: redis://127.0.0.1:$redis_port/0
+  url: redis://:$REDISCLI_AUTH@127.0.0.1:$redis_port/0
 server:
   listen: 127.0.0.1:$http_port
 store:
@@ -58,7 +65,9 @@ worker:
   concurrency: 1
 CONF
   chmod 600 "$dir/token.txt"
-  "$dir/matgate" serve --config "$dir/matgate.yaml" >"$dir/serve.log" 2>&1 &
+  create=()  # the first start makes the records directory; later ones find its marker
+  [ -f "$dir/records/.matgate-store" ] || create=(--create-store)
+  "$dir/matgate" serve --config "$dir/matgate.yaml" "${create[@]}" >"$dir/serve.log" 2>&1 &
   echo $! >"$dir/serve.pid"
   "$dir/matgate" worker --config "$dir/matgate.yaml" >"$dir/worker.log" 2>&1 &
   echo $! >"$dir/worker.pid"

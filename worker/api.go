@@ -92,12 +92,29 @@ func NewAPI(c APIConfig) (*API, error) {
 	})
 	a.mux.HandleFunc("GET /readyz", a.ready)
 	if c.Metrics != nil {
-		a.mux.Handle("GET /metrics", promhttp.HandlerFor(c.Metrics.Registry, promhttp.HandlerOpts{}))
+		// Scrapes cost Redis work (queue sizes): only a token with the
+		// read scope may ask.
+		a.mux.HandleFunc("GET /metrics", a.scoped(ScopeRead, promhttp.HandlerFor(c.Metrics.Registry, promhttp.HandlerOpts{}).ServeHTTP))
 	}
-	a.mux.HandleFunc("/", func(w http.ResponseWriter, r *http.Request) {
-		problem(w, r, http.StatusNotFound, "no such resource", fmt.Sprintf("%s %s is not part of the API", r.Method, r.URL.Path), nil)
-	})
+	a.mux.HandleFunc("/", a.noRoute)
 	return a, nil
+}
+
+// noRoute answers what no route takes: 405 with Allow when the path is the
+// API's under other methods, else 404.
+func (a *API) noRoute(w http.ResponseWriter, r *http.Request) {
+	var allow []string
+	for _, m := range []string{http.MethodGet, http.MethodHead, http.MethodPost, http.MethodPut, http.MethodPatch, http.MethodDelete} {
+		if _, pattern := a.mux.Handler(&http.Request{Method: m, URL: r.URL, Host: r.Host}); m != r.Method && pattern != "/" && pattern != "" {
+			allow = append(allow, m)
+		}
+	}
+	if len(allow) > 0 {
+		w.Header().Set("Allow", strings.Join(allow, ", "))
+		problem(w, r, http.StatusMethodNotAllowed, "method not allowed", fmt.Sprintf("%s %s: this resource takes %s", r.Method, r.URL.Path, strings.Join(allow, ", ")), nil)
+		return
+	}
+	problem(w, r, http.StatusNotFound, "no such resource", fmt.Sprintf("%s %s is not part of the API", r.Method, r.URL.Path), nil)
 }
 
 // ServeHTTP logs each request (never its Authorization header).

@@ -180,7 +180,10 @@ func TestAPIEndToEnd(t *testing.T) {
 			t.Errorf("%s: %d %s", p, resp.StatusCode, body)
 		}
 	}
-	_, m := s.do(t, "GET", "/metrics", "", "", nil)
+	if resp, _ := s.do(t, "GET", "/metrics", "", "", nil); resp.StatusCode != http.StatusUnauthorized {
+		t.Errorf("/metrics without a token: %d, want 401", resp.StatusCode)
+	}
+	_, m := s.do(t, "GET", "/metrics", secretRead, "", nil)
 	for _, want := range []string{"matgate_verification_duration_seconds_count 3", `matgate_queue_tasks{queue="verify",state="completed"} 3`,
 		`matgate_tasks_processed_total{queue="verify"}`, "matgate_redis_errors_total 0"} {
 		if !strings.Contains(string(m), want) {
@@ -256,6 +259,53 @@ func TestAPIAuth(t *testing.T) {
 	// The submit-only token does submit.
 	if resp, body := s.do(t, "POST", "/v1/cards", secretSub, "application/yaml", strings.NewReader(string(card))); resp.StatusCode != 202 {
 		t.Errorf("submit token: %d %s", resp.StatusCode, body)
+	}
+	// The scheme name is case-insensitive (RFC 7235, sec. 2.1); another
+	// scheme, or none, is no token.
+	for _, h := range []struct {
+		header string
+		want   int
+	}{
+		{"bearer " + secretRead, 200}, {"BEARER  " + secretRead, 200}, {"Bearer " + secretRead, 200},
+		{"Basic " + secretRead, 401}, {"Bearer", 401}, {"Bearer ", 401}, {secretRead, 401},
+	} {
+		req, _ := http.NewRequest("GET", s.srv.URL+"/v1/records", nil)
+		req.Header.Set("Authorization", h.header)
+		resp, err := http.DefaultClient.Do(req)
+		if err != nil {
+			t.Fatal(err)
+		}
+		resp.Body.Close()
+		if resp.StatusCode != h.want {
+			t.Errorf("Authorization %.12q...: %d, want %d", h.header, resp.StatusCode, h.want)
+		}
+	}
+}
+
+// TestAPIMethods: a path of the API under a method it does not take is
+// 405 with an Allow header (RFC 9110, sec. 15.5.6), before any token is
+// looked at; an unknown path is 404.
+func TestAPIMethods(t *testing.T) {
+	s := newAPIStack(t, false, 0)
+	id := strings.Repeat("ab", 32)
+	tests := []struct {
+		method, path string
+		want         int
+		allow        string
+	}{
+		{"GET", "/v1/cards", 405, "POST"},
+		{"PUT", "/v1/cards", 405, "POST"},
+		{"DELETE", "/v1/records/" + id, 405, "GET, HEAD"},
+		{"POST", "/v1/jobs/" + id, 405, "GET, HEAD"},
+		{"POST", "/metrics", 405, "GET, HEAD"},
+		{"GET", "/v1/nothing", 404, ""},
+		{"POST", "/v1/records/" + id + "/nothing", 404, ""},
+	}
+	for _, tc := range tests {
+		resp, body := s.do(t, tc.method, tc.path, secretAll, "", nil)
+		if resp.StatusCode != tc.want || resp.Header.Get("Allow") != tc.allow || resp.Header.Get("Content-Type") != "application/problem+json" {
+			t.Errorf("%s %s: %d Allow %q, want %d Allow %q\n%s", tc.method, tc.path, resp.StatusCode, resp.Header.Get("Allow"), tc.want, tc.allow, body)
+		}
 	}
 }
 

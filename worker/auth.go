@@ -16,7 +16,7 @@ import (
 // Token scopes.
 const (
 	ScopeSubmit = "submit" // POST /v1/cards
-	ScopeRead   = "read"   // GET /v1/jobs, /v1/records
+	ScopeRead   = "read"   // GET /v1/jobs, /v1/records, /metrics
 )
 
 // Token is one configured API token: its name (for logs and revocation),
@@ -82,13 +82,14 @@ func newAuthenticator(ts []Token) (*authenticator, error) {
 	return a, errors.Join(errs...)
 }
 
-// identify returns the token a request presents, or nil. Every configured
-// hash is compared, in constant time, whatever matches first, so the time
-// taken tells nothing about which hash came close.
+// identify returns the token a request presents, or nil. The scheme name
+// is case-insensitive (RFC 7235, sec. 2.1: "bearer" is "Bearer"). Every
+// configured hash is compared, in constant time, whatever matches first,
+// so the time taken tells nothing about which hash came close.
 func (a *authenticator) identify(r *http.Request) *authToken {
-	h := r.Header.Get("Authorization")
-	secret, ok := strings.CutPrefix(h, "Bearer ")
-	if !ok || secret == "" {
+	scheme, secret, ok := strings.Cut(r.Header.Get("Authorization"), " ")
+	secret = strings.TrimLeft(secret, " ")
+	if !ok || !strings.EqualFold(scheme, "Bearer") || secret == "" {
 		return nil
 	}
 	sum := sha256.Sum256([]byte(secret))

@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"log/slog"
 	"time"
 
 	"github.com/hibiken/asynq"
@@ -25,6 +26,9 @@ type Materializer struct {
 	// Observe, when set, is told the verification's duration of each
 	// record that became a file (the duration histogram of /metrics).
 	Observe func(seconds float64)
+	// Log is told every record that could not be stored, with the cause
+	// (a full or failing disk); nil discards.
+	Log *slog.Logger
 }
 
 // ProcessTask materializes one record; every step is idempotent.
@@ -48,12 +52,20 @@ func (m *Materializer) ProcessTask(ctx context.Context, t *asynq.Task) error {
 		return fmt.Errorf("materialize %s: the record is neither in Redis nor in the records directory: %w", p.ID, asynq.SkipRetry)
 	}
 	meta := p.Meta
-	if meta.CardID == "" {
+	if meta.CardID == "" || meta.Digest == "" { // none, or from a worker before the ledger kept digests
 		if meta, err = metaFromJSON([]byte(rec)); err != nil {
 			return fmt.Errorf("materialize %s: %w: %w", p.ID, err, asynq.SkipRetry)
 		}
 	}
 	added, err := m.Store.Put(p.ID, meta, []byte(rec), []byte(card))
+	if err != nil && m.Log != nil {
+		msg := "store: record not stored; it stays in Redis and the task is retried"
+		if errors.Is(err, ErrConflict) {
+			msg = "store: record not stored: another file of its id exists; not retried"
+		}
+		retry, _ := asynq.GetRetryCount(ctx)
+		m.Log.Error(msg, "id", p.ID, "attempt", retry+1, "err", err)
+	}
 	if errors.Is(err, ErrConflict) {
 		return fmt.Errorf("materialize %s: %w: %w", p.ID, err, asynq.SkipRetry)
 	}

@@ -11,10 +11,12 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"log/slog"
 	"os"
 	"path"
 	"path/filepath"
 	"runtime"
+	"strings"
 	"sync"
 	"sync/atomic"
 	"syscall"
@@ -42,10 +44,21 @@ type LedgerEntry struct {
 	Revision     int    `json:"revision"`
 	Verdict      string `json:"verdict"`
 	Created      string `json:"created"`
+	Digest       string `json:"digest,omitempty"`      // the record's own digest; "" on lines written before it was kept
+	CardDigest   string `json:"card_digest,omitempty"` // the verified card's digest; likewise
 	RecordSHA256 string `json:"record_sha256"`
 	CardSHA256   string `json:"card_sha256"`
 	Prev         string `json:"prev"`
 }
+
+// StoreMarker is the file that makes a directory a records directory.
+// OpenStore refuses a directory without it unless told to create one, so
+// that a volume that is not mounted does not silently become an empty
+// directory on another disk.
+const StoreMarker = ".matgate-store"
+
+// storeFormat is the first line of the marker.
+const storeFormat = "matgate.store/1"
 
 // DirStore is the records directory: every record and neutral card an
 // immutable file, sharded by the first two hex digits of the id
@@ -56,30 +69,92 @@ type DirStore struct {
 	dir  string
 	root *os.Root // every name is resolved inside dir: no id escapes it
 	lock *os.File
+	log  *slog.Logger
+	wrap func(name string, f storeFile) storeFile // StoreOptions.wrap
 
 	mu      sync.Mutex
-	ledger  *os.File
+	ledger  storeFile
+	size    int64  // length of the ledger's whole lines: where the next append goes
+	torn    bool   // a failed append may have left bytes after size
 	last    string // hex sha256 of the last ledger line
 	entries []LedgerEntry
 	index   map[string]int // id -> position in entries
+
+	faultMu sync.Mutex // not mu: Ping must answer while a Put waits on the disk
+	fault   error      // the last write that failed, until one succeeds
 }
 
-// OpenDirStore opens (creating it if needed) the records directory dir,
-// takes its write lock, and reads the ledger. A torn last line, left by a
-// crash in the middle of an append that was therefore never acknowledged,
-// is cut off; any other damage is an error (run matgate ledger verify).
+// storeFile is what the store writes through: an *os.File, or in tests a
+// wrapper whose writes fail on demand.
+type storeFile interface {
+	Write(p []byte) (int, error)
+	WriteAt(p []byte, off int64) (int, error)
+	Sync() error
+	Truncate(size int64) error
+	Close() error
+}
+
+var _ storeFile = (*os.File)(nil)
+
+// StoreOptions tune OpenStore.
+type StoreOptions struct {
+	// Create makes dir a records directory when it has no StoreMarker:
+	// creates it if missing and writes the marker (refusing a directory
+	// that holds other files). Without Create such a directory is an
+	// error. A directory with a ledger but no marker (made by a matgate
+	// before the marker) is taken and marked either way.
+	Create bool
+	// Log is told what opening repaired: a torn ledger tail cut off, stale
+	// temporary files removed, a marker written. Nil discards.
+	Log *slog.Logger
+
+	wrap func(name string, f storeFile) storeFile // tests: fail writes on demand
+}
+
+// OpenDirStore opens the records directory dir, creating and marking it
+// when needed: OpenStore with Create, for a directory named on the command
+// line (matgate verify --store).
 func OpenDirStore(dir string) (*DirStore, error) {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return nil, fmt.Errorf("records directory: %w", err)
+	return OpenStore(dir, StoreOptions{Create: true})
+}
+
+// OpenStore opens the records directory dir, takes its write lock, removes
+// temporary files that a crash left behind, and reads the ledger. A torn
+// last line, left by a crash in the middle of an append that was
+// therefore never acknowledged, is cut off (and logged); any other damage
+// is an error (run matgate ledger verify).
+func OpenStore(dir string, o StoreOptions) (*DirStore, error) {
+	if o.Log == nil {
+		o.Log = slog.New(slog.DiscardHandler)
+	}
+	if o.Create {
+		if err := os.MkdirAll(dir, 0o755); err != nil {
+			return nil, fmt.Errorf("records directory: %w", err)
+		}
 	}
 	root, err := os.OpenRoot(dir)
-	if err != nil {
-		return nil, fmt.Errorf("records directory: %w", err)
+	if errors.Is(err, fs.ErrNotExist) && !o.Create {
+		return nil, fmt.Errorf("records directory %s: %w (a volume that is not mounted? set store.create: true once to make a new one)", dir, err)
 	}
-	s := &DirStore{dir: dir, root: root, index: map[string]int{}}
+	if err != nil {
+		return nil, fmt.Errorf("records directory %s: %w", dir, err)
+	}
+	s := &DirStore{dir: dir, root: root, index: map[string]int{}, log: o.Log, wrap: o.wrap}
 	fail := func(err error) (*DirStore, error) {
 		s.Close()
 		return nil, fmt.Errorf("records directory %s: %w", dir, err)
+	}
+	marked, err := checkMarker(root)
+	if err != nil {
+		return fail(err)
+	}
+	legacy := false
+	if !marked {
+		if st, err := root.Stat(LedgerName); err == nil && st.Size() > 0 {
+			legacy = true
+		} else if !o.Create {
+			return fail(fmt.Errorf("not a records directory (no %s): a volume that is not mounted, or a wrong store.dir? Set store.create: true (serve --create-store) once to make a new one", StoreMarker))
+		}
 	}
 	if s.lock, err = root.OpenFile(".lock", os.O_CREATE|os.O_RDWR, 0o644); err != nil {
 		return fail(err)
@@ -87,22 +162,35 @@ func OpenDirStore(dir string) (*DirStore, error) {
 	if err := syscall.Flock(int(s.lock.Fd()), syscall.LOCK_EX|syscall.LOCK_NB); err != nil {
 		return fail(fmt.Errorf("another process writes this directory (lock .lock): %w", err))
 	}
-	if s.ledger, err = root.OpenFile(LedgerName, os.O_CREATE|os.O_RDWR, 0o644); err != nil {
+	if !marked {
+		if err := s.mark(legacy); err != nil {
+			return fail(err)
+		}
+	}
+	if err := s.removeTemporaries(); err != nil {
 		return fail(err)
 	}
-	data, err := io.ReadAll(s.ledger)
+	f, err := root.OpenFile(LedgerName, os.O_CREATE|os.O_RDWR, 0o644)
+	if err != nil {
+		return fail(err)
+	}
+	s.ledger = s.wrapped(LedgerName, f)
+	data, err := io.ReadAll(f)
 	if err != nil {
 		return fail(err)
 	}
 	if cut := bytes.LastIndexByte(data, '\n') + 1; cut < len(data) {
-		if err := s.ledger.Truncate(int64(cut)); err != nil {
+		if err := f.Truncate(int64(cut)); err != nil {
 			return fail(err)
 		}
-		if err := s.ledger.Sync(); err != nil {
+		if err := f.Sync(); err != nil {
 			return fail(err)
 		}
+		s.log.Warn("ledger: cut off a torn last line, an append that never completed and was never acknowledged",
+			"dir", dir, "bytes", len(data)-cut, "kept_bytes", cut)
 		data = data[:cut]
 	}
+	s.size = int64(len(data))
 	var brk error
 	s.entries, s.last, brk = parseLedger(data)
 	if brk != nil {
@@ -110,9 +198,6 @@ func OpenDirStore(dir string) (*DirStore, error) {
 	}
 	for i, e := range s.entries {
 		s.index[e.ID] = i
-	}
-	if _, err := s.ledger.Seek(0, io.SeekEnd); err != nil {
-		return fail(err)
 	}
 	return s, nil
 }
@@ -152,6 +237,94 @@ func OpenDirStoreReadOnly(dir string) (*DirStore, error) {
 func IsRecordsDir(dir string) bool {
 	st, err := os.Stat(filepath.Join(dir, LedgerName))
 	return err == nil && st.Mode().IsRegular()
+}
+
+func (s *DirStore) wrapped(name string, f *os.File) storeFile {
+	if s.wrap != nil {
+		return s.wrap(name, f)
+	}
+	return f
+}
+
+// checkMarker reports whether the directory carries the store marker, and
+// refuses a marker of something else.
+func checkMarker(root *os.Root) (bool, error) {
+	b, err := root.ReadFile(StoreMarker)
+	if errors.Is(err, fs.ErrNotExist) {
+		return false, nil
+	}
+	if err != nil {
+		return false, err
+	}
+	if first, _, _ := bytes.Cut(b, []byte("\n")); string(first) != storeFormat {
+		return false, fmt.Errorf("%s does not start with %q: not a matgate records directory", StoreMarker, storeFormat)
+	}
+	return true, nil
+}
+
+// mark writes the store marker into a new directory, or into one that an
+// older matgate made (legacy: it has a ledger). A new directory must hold
+// nothing else, so that a store is never made inside some other data.
+func (s *DirStore) mark(legacy bool) error {
+	if !legacy {
+		des, err := fs.ReadDir(s.root.FS(), ".")
+		if err != nil {
+			return err
+		}
+		for _, d := range des {
+			if n := d.Name(); n != ".lock" && n != LedgerName && n != "lost+found" { // lost+found: the root of a new ext4 volume
+				return fmt.Errorf("not a records directory (no %s) and not empty (%s): refusing to make one here", StoreMarker, n)
+			}
+		}
+	}
+	b := fmt.Appendf(nil, "%s\nmatgate records directory: immutable record and card files and %s; do not edit.\n", storeFormat, LedgerName)
+	if err := s.writeImmutable(StoreMarker, b); err != nil {
+		return fmt.Errorf("write %s: %w", StoreMarker, err)
+	}
+	if err := syncDir(s.root, "."); err != nil {
+		return err
+	}
+	what := "made a new records directory"
+	if legacy {
+		what = "marked a records directory made before the marker"
+	}
+	s.log.Info("store: "+what, "dir", s.dir, "marker", StoreMarker)
+	return nil
+}
+
+// removeTemporaries removes the temporary files of writes that a crash
+// interrupted (.tmp-* in the directory and its shards); under the lock no
+// write is in flight.
+func (s *DirStore) removeTemporaries() error {
+	n := 0
+	dirs := []string{"."}
+	des, err := fs.ReadDir(s.root.FS(), ".")
+	if err != nil {
+		return err
+	}
+	for _, d := range des {
+		if d.IsDir() && len(d.Name()) == 2 {
+			dirs = append(dirs, d.Name())
+		}
+	}
+	for _, dir := range dirs {
+		des, err := fs.ReadDir(s.root.FS(), dir)
+		if err != nil {
+			return err
+		}
+		for _, d := range des {
+			if !d.IsDir() && strings.HasPrefix(d.Name(), ".tmp-") {
+				if err := s.root.Remove(path.Join(dir, d.Name())); err != nil {
+					return err
+				}
+				n++
+			}
+		}
+	}
+	if n > 0 {
+		s.log.Warn("store: removed temporary files left by an interrupted write", "dir", s.dir, "files", n)
+	}
+	return nil
 }
 
 // parseLedger reads the ledger lines and checks their chain; it returns the
@@ -204,15 +377,40 @@ func (s *DirStore) Has(id string) bool {
 
 // RecordMeta is what the ledger says of a record besides its hashes.
 type RecordMeta struct {
-	CardID   string `json:"card_id"`
-	Revision int    `json:"revision"`
-	Verdict  string `json:"verdict"`
-	Created  string `json:"created"`
+	CardID     string `json:"card_id"`
+	Revision   int    `json:"revision"`
+	Verdict    string `json:"verdict"`
+	Created    string `json:"created"`
+	Digest     string `json:"digest"`
+	CardDigest string `json:"card_digest"`
 }
 
 // MetaOf returns the ledger fields of a record.
 func MetaOf(r *checks.Record) RecordMeta {
-	return RecordMeta{CardID: r.Card.ID, Revision: r.Card.Revision, Verdict: r.Verdict, Created: r.Created}
+	return RecordMeta{CardID: r.Card.ID, Revision: r.Card.Revision, Verdict: r.Verdict, Created: r.Created,
+		Digest: r.Digest, CardDigest: r.Card.Digest}
+}
+
+// mismatch names the first field in which the ledger line e differs from
+// the record it names.
+func (e LedgerEntry) mismatch(r *checks.Record) string {
+	m := MetaOf(r)
+	for _, f := range []struct {
+		name       string
+		line, file any
+	}{
+		{"card_id", e.CardID, m.CardID}, {"revision", e.Revision, m.Revision},
+		{"verdict", e.Verdict, m.Verdict}, {"created", e.Created, m.Created},
+		{"digest", e.Digest, m.Digest}, {"card_digest", e.CardDigest, m.CardDigest},
+	} {
+		if f.line == "" && (f.name == "digest" || f.name == "card_digest") {
+			continue // a line written before the ledger kept the digests
+		}
+		if f.line != f.file {
+			return fmt.Sprintf("%s %v, the record says %v", f.name, f.line, f.file)
+		}
+	}
+	return ""
 }
 
 // metaFromJSON reads the ledger fields from a record's bytes, for a caller
@@ -223,14 +421,17 @@ func metaFromJSON(record []byte) (RecordMeta, error) {
 		Card struct {
 			ID       string `json:"id"`
 			Revision int    `json:"revision"`
+			Digest   string `json:"digest"`
 		} `json:"card"`
 		Verdict string `json:"verdict"`
 		Created string `json:"created"`
+		Digest  string `json:"digest"`
 	}
 	if err := json.Unmarshal(record, &rec); err != nil || rec.Card.ID == "" || rec.Verdict == "" {
 		return RecordMeta{}, fmt.Errorf("not a verification record (%v)", err)
 	}
-	return RecordMeta{CardID: rec.Card.ID, Revision: rec.Card.Revision, Verdict: rec.Verdict, Created: rec.Created}, nil
+	return RecordMeta{CardID: rec.Card.ID, Revision: rec.Card.Revision, Verdict: rec.Verdict, Created: rec.Created,
+		Digest: rec.Digest, CardDigest: rec.Card.Digest}, nil
 }
 
 // Put stores the record and the neutral card of id as immutable files and
@@ -243,8 +444,8 @@ func (s *DirStore) Put(id string, m RecordMeta, record, card []byte) (added bool
 	if !ValidID(id) {
 		return false, fmt.Errorf("put: malformed record id %q", id)
 	}
-	if m.CardID == "" || m.Verdict == "" {
-		return false, fmt.Errorf("put %s: the record's card id and verdict are missing", id)
+	if m.CardID == "" || m.Verdict == "" || m.Digest == "" || m.CardDigest == "" {
+		return false, fmt.Errorf("put %s: the record's card id, verdict, digest or card digest is missing", id)
 	}
 	s.mu.Lock()
 	defer s.mu.Unlock()
@@ -254,42 +455,90 @@ func (s *DirStore) Put(id string, m RecordMeta, record, card []byte) (added bool
 	if s.ledger == nil {
 		return false, fmt.Errorf("put %s: the records directory %s is open for reading only", id, s.dir)
 	}
+	err = s.put(id, m, record, card)
+	if !errors.Is(err, ErrConflict) {
+		s.faultMu.Lock()
+		s.fault = err
+		s.faultMu.Unlock()
+	}
+	if err != nil {
+		return false, fmt.Errorf("put %s: %w", id, err)
+	}
+	return true, nil
+}
+
+func (s *DirStore) put(id string, m RecordMeta, record, card []byte) error {
 	if _, err := s.root.Stat(id[:2]); errors.Is(err, fs.ErrNotExist) {
 		if err := s.root.Mkdir(id[:2], 0o755); err != nil && !errors.Is(err, fs.ErrExist) {
-			return false, fmt.Errorf("put %s: %w", id, err)
+			return err
 		}
 		if err := syncDir(s.root, "."); err != nil { // the new shard's name
-			return false, fmt.Errorf("put %s: %w", id, err)
+			return err
 		}
 	}
-	if err := writeImmutable(s.root, recordName(id), record); err != nil {
-		return false, fmt.Errorf("put %s: %w", id, err)
+	if err := s.writeImmutable(recordName(id), record); err != nil {
+		return err
 	}
-	if err := writeImmutable(s.root, cardName(id), card); err != nil {
-		return false, fmt.Errorf("put %s: %w", id, err)
+	if err := s.writeImmutable(cardName(id), card); err != nil {
+		return err
 	}
 	if err := syncDir(s.root, id[:2]); err != nil {
-		return false, fmt.Errorf("put %s: %w", id, err)
+		return err
 	}
 	e := LedgerEntry{
 		Seq: len(s.entries) + 1, ID: id, CardID: m.CardID, Revision: m.Revision,
-		Verdict: m.Verdict, Created: m.Created,
+		Verdict: m.Verdict, Created: m.Created, Digest: m.Digest, CardDigest: m.CardDigest,
 		RecordSHA256: sha256Hex(record), CardSHA256: sha256Hex(card), Prev: s.last,
 	}
 	line, err := json.Marshal(e)
 	if err != nil {
-		return false, err
+		return err
 	}
-	if _, err := s.ledger.Write(append(line, '\n')); err != nil {
-		return false, fmt.Errorf("put %s: ledger: %w", id, err)
-	}
-	if err := s.ledger.Sync(); err != nil {
-		return false, fmt.Errorf("put %s: ledger: %w", id, err)
+	if err := s.appendLedger(append(line, '\n')); err != nil {
+		return fmt.Errorf("ledger: %w", err)
 	}
 	s.last = sha256Hex(line)
 	s.index[id] = len(s.entries)
 	s.entries = append(s.entries, e)
-	return true, nil
+	return nil
+}
+
+// appendLedger appends one whole line durably, or nothing: a write or
+// sync that fails (a full disk writes part of the line) is cut back to
+// the last whole line before the error is returned, and when that cut
+// fails too the next append makes it first, so no line is ever written
+// after a torn one.
+func (s *DirStore) appendLedger(line []byte) error {
+	if s.torn {
+		if err := s.cutLedger(); err != nil {
+			return fmt.Errorf("cut back the failed append before this one: %w", err)
+		}
+	}
+	_, err := s.ledger.WriteAt(line, s.size)
+	if err == nil {
+		err = s.ledger.Sync()
+	}
+	if err != nil {
+		s.torn = true
+		if cerr := s.cutLedger(); cerr != nil {
+			return fmt.Errorf("%w (and cutting back the torn line failed: %v; the next append cuts it first)", err, cerr)
+		}
+		return err
+	}
+	s.size += int64(len(line))
+	return nil
+}
+
+// cutLedger truncates the ledger to its whole lines.
+func (s *DirStore) cutLedger() error {
+	if err := s.ledger.Truncate(s.size); err != nil {
+		return err
+	}
+	if err := s.ledger.Sync(); err != nil {
+		return err
+	}
+	s.torn = false
+	return nil
 }
 
 // Record returns the record file of id.
@@ -325,8 +574,15 @@ func (s *DirStore) List(cardID string, offset, limit int) ([]LedgerEntry, int) {
 	return out, n
 }
 
-// Ping reports whether the directory is still there and readable.
+// Ping reports whether the directory is still there and readable, and
+// the last write's error while no write has succeeded since.
 func (s *DirStore) Ping() error {
+	s.faultMu.Lock()
+	fault := s.fault
+	s.faultMu.Unlock()
+	if fault != nil {
+		return fmt.Errorf("the last write failed: %w", fault)
+	}
 	_, err := s.root.Stat(LedgerName)
 	return err
 }
@@ -347,15 +603,17 @@ func (s *DirStore) Close() error {
 // writeImmutable writes data under name through a synced temporary file and
 // a hard link, which fails rather than replace an existing file. An
 // existing file with the same content is success (a retried write).
-func writeImmutable(root *os.Root, name string, data []byte) error {
+func (s *DirStore) writeImmutable(name string, data []byte) error {
+	root := s.root
 	var rnd [8]byte
 	rand.Read(rnd[:])
 	tmp := path.Join(path.Dir(name), ".tmp-"+hex.EncodeToString(rnd[:]))
-	f, err := root.OpenFile(tmp, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o444)
+	of, err := root.OpenFile(tmp, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o444)
 	if err != nil {
 		return err
 	}
 	defer root.Remove(tmp)
+	f := s.wrapped(name, of)
 	if _, err := f.Write(data); err != nil {
 		f.Close()
 		return err
@@ -381,8 +639,8 @@ func writeImmutable(root *os.Root, name string, data []byte) error {
 	return err
 }
 
-// checkEntry checks the two files of ledger line n and the record's own
-// digest.
+// checkEntry checks the two files of ledger line n, the record's own
+// digest, and that the line says what the record says.
 func checkEntry(root *os.Root, e LedgerEntry, n int) error {
 	var rec []byte
 	for _, f := range []struct{ name, sum string }{{recordName(e.ID), e.RecordSHA256}, {cardName(e.ID), e.CardSHA256}} {
@@ -403,6 +661,9 @@ func checkEntry(root *os.Root, e LedgerEntry, n int) error {
 	}
 	if err != nil {
 		return fmt.Errorf("%s:%d: %s: %w", LedgerName, n, recordName(e.ID), err)
+	}
+	if d := e.mismatch(r); d != "" {
+		return fmt.Errorf("%s:%d: the line says %s", LedgerName, n, d)
 	}
 	return nil
 }
@@ -431,8 +692,9 @@ type LedgerReport struct {
 // VerifyLedger walks the ledger chain of a records directory and every
 // file it names: each line's prev is the sha256 of the line before, each
 // file exists with the sha256 the ledger holds, each record's own digest
-// matches its content, and no record or card file is missing from the
-// ledger. It reads only, and takes no lock. The returned error is for a
+// matches its content, each line's card, revision, verdict, created and
+// digests are the record's, and no record or card file is missing from
+// the ledger. It reads only, and takes no lock. The returned error is for a
 // directory that cannot be read; a break is in the report.
 func VerifyLedger(dir string) (LedgerReport, error) {
 	var rep LedgerReport

@@ -89,23 +89,7 @@ func TestDirStorePutIdempotent(t *testing.T) {
 // TestLedgerVerify damages an intact directory in each of the ways an
 // auditor must see and checks that ledger verify reports the first break.
 func TestLedgerVerify(t *testing.T) {
-	build := func(t *testing.T) (string, []string) {
-		dir := t.TempDir()
-		s, err := OpenDirStore(dir)
-		if err != nil {
-			t.Fatal(err)
-		}
-		defer s.Close()
-		var ids []string
-		for _, f := range demoCards {
-			id, rec, card := storeOutputs(t, f)
-			if _, err := putJSON(t, s, id, rec, card); err != nil {
-				t.Fatal(err)
-			}
-			ids = append(ids, id)
-		}
-		return dir, ids
-	}
+	build := storeDemoCards
 	dir, _ := build(t)
 	if rep, err := VerifyLedger(dir); err != nil || rep.Break != nil || rep.Entries != 3 || rep.Files != 6 {
 		t.Fatalf("intact directory: %+v %v", rep, err)
@@ -169,6 +153,27 @@ func TestLedgerVerify(t *testing.T) {
 	if rep, _ := VerifyLedger(dir); rep.Break != nil || rep.Entries != 3 {
 		t.Errorf("after reopening: %+v", rep)
 	}
+}
+
+// storeDemoCards returns a records directory holding the demo cards'
+// outputs, and their ids.
+func storeDemoCards(t *testing.T) (string, []string) {
+	t.Helper()
+	dir := t.TempDir()
+	s, err := OpenDirStore(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer s.Close()
+	var ids []string
+	for _, f := range demoCards {
+		id, rec, card := storeOutputs(t, f)
+		if _, err := putJSON(t, s, id, rec, card); err != nil {
+			t.Fatal(err)
+		}
+		ids = append(ids, id)
+	}
+	return dir, ids
 }
 
 // ids1Prefix stands in a want string for the shard of the second record.

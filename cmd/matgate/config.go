@@ -36,7 +36,8 @@ type Config struct {
 		ShutdownTimeout time.Duration `mapstructure:"shutdown_timeout"` // grace for requests and tasks on SIGTERM
 	} `mapstructure:"server"`
 	Store struct {
-		Dir string `mapstructure:"dir"` // the records directory (serve only)
+		Dir    string `mapstructure:"dir"`    // the records directory (serve only)
+		Create bool   `mapstructure:"create"` // make dir a records directory if it is not one
 	} `mapstructure:"store"`
 	Auth struct {
 		Tokens []worker.Token `mapstructure:"tokens"`
@@ -61,6 +62,7 @@ var configDefaults = map[string]any{
 	"server.write_timeout":    "60s",
 	"server.shutdown_timeout": "30s",
 	"store.dir":               "matgate-records",
+	"store.create":            false,
 	"auth.tokens":             []any{},
 	"worker.concurrency":      0,
 	"verify.profile":          schema.ProfileStandard,

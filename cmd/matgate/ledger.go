@@ -20,8 +20,13 @@ func newLedgerCmd(e *env) *cobra.Command {
 		Long: `ledger verify reads DIR/ledger.jsonl and checks that each line's prev is
 the sha256 of the line before, that every record and card file the ledger
 names exists with the sha256 it holds, that every record's own digest
-matches its content, and that no record or card file is missing from the
-ledger. It only reads, and can run while serve writes.
+matches its content, that each line says what its record says (card id,
+revision, verdict, created, record and card digests: a listing never
+shows "pass" for a failed record), and that no record or card file is
+missing from the ledger. It only reads, and can run while serve writes.
+
+A ledger rewritten with its chain recomputed still chains: keep the
+verified line count and head hash elsewhere to catch that.
 
 Exit 0 when intact, 1 at a break, 2 when DIR is not a records directory.`,
 		Args: cobra.ExactArgs(1),

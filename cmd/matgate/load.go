@@ -198,6 +198,9 @@ func referenceReader(dir string) func(string) ([]byte, error) {
 		if err != nil {
 			return nil, err
 		}
+		if !st.Mode().IsRegular() { // a FIFO or device would block the read
+			return nil, fmt.Errorf("%s is not a regular file (%v)", name, st.Mode().Type())
+		}
 		if st.Size() > schema.DefaultMaxBytes*16 {
 			return nil, fmt.Errorf("%s is %d bytes, above the %d-byte limit for a reference curve", name, st.Size(), schema.DefaultMaxBytes*16)
 		}

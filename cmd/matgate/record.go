@@ -1,7 +1,6 @@
 package main
 
 import (
-	"encoding/json"
 	"errors"
 	"fmt"
 	"os"
@@ -28,24 +27,32 @@ func newRecordCmd(e *env) *cobra.Command {
 }
 
 func newRecordVerifyCmd(e *env) *cobra.Command {
-	var pubPath string
+	var (
+		pubPath    string
+		requireSig bool
+	)
 	c := &cobra.Command{
 		Use:   "verify RECORD",
 		Short: "Check a record's digest and signature and that it reproduces",
-		Long: `verify recomputes the record's digest, checks its ed25519 signature when
---public-key is given (a signed record without a key is reported, not
-trusted), re-runs the verification from the canonical card the record
-embeds and compares every case and check. Exit 0 when all of that holds, 1
-when anything does not.`,
+		Long: `verify reads the record strictly (a field that matgate.record/1 does not
+define, or data after the record, fails: the digest covers only the
+fields it knows, so an added field would otherwise pass unseen),
+recomputes the record's digest, checks its ed25519 signature with
+--public-key, and re-runs the verification from the canonical card the
+record embeds and compares every case and check.
+
+A record without a signature is reported as unsigned: nothing then shows
+who made it. It fails with --require-signature, and always with
+--public-key. A signed record checked without --public-key is reported as
+signed but not checked: anyone can sign with a key of their own.
+
+Exit 0 when all of that holds, 1 when anything does not, 2 when the file
+cannot be read.`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			b, err := os.ReadFile(args[0])
 			if err != nil {
 				return invalid("%v", err)
-			}
-			var rec checks.Record
-			if err := json.Unmarshal(b, &rec); err != nil {
-				return invalid("%s: not a record: %v", args[0], err)
 			}
 			var pub []byte
 			if pubPath != "" {
@@ -54,46 +61,60 @@ when anything does not.`,
 				}
 			}
 			bad := 0
-			report := func(ok bool, what string) {
-				mark := "ok  "
-				if !ok {
-					mark = "FAIL"
+			report := func(mark, what string) {
+				if mark == "FAIL" {
 					bad++
 				}
-				fmt.Fprintf(e.stdout, "%s %s\n", mark, what)
+				fmt.Fprintf(e.stdout, "%-4s %s\n", mark, what)
 			}
-			err = rec.VerifyIntegrity(pub)
-			report(err == nil, "digest"+sigNote(&rec, pub)+errNote(err))
-
-			reproduced, why := reproduce(cmd, &rec)
-			report(reproduced, "re-run from the embedded card reproduces the record"+why)
-			if bad > 0 {
+			notIntact := func() error {
 				fmt.Fprintf(e.stdout, "%s: NOT intact (%d problem(s))\n", args[0], bad)
 				return &exitError{code: exitFailed}
 			}
-			fmt.Fprintf(e.stdout, "%s: intact; verdict %s\n", args[0], rec.Verdict)
+			rec, err := checks.ParseRecord(b)
+			if err != nil {
+				report("FAIL", "read as matgate.record/1: "+err.Error())
+				return notIntact()
+			}
+			err = rec.VerifyIntegrity(pub)
+			if errors.Is(err, checks.ErrDigestMismatch) || errors.Is(err, checks.ErrBadRecord) {
+				report("FAIL", "digest: "+err.Error())
+			} else {
+				report("ok", "digest "+rec.Digest)
+			}
+			switch {
+			case rec.Signature == nil && (requireSig || pub != nil):
+				report("FAIL", "unsigned: the record carries no signature")
+			case rec.Signature == nil:
+				report("note", "unsigned: the record carries no signature, so nothing shows who made it (--require-signature fails it)")
+			case pub == nil:
+				report("note", "signed by key "+rec.Signature.KeyID+"; signature not checked: no --public-key")
+			case errors.Is(err, checks.ErrDigestMismatch) || errors.Is(err, checks.ErrBadRecord):
+				report("FAIL", "signature of key "+rec.Signature.KeyID+" not checked: the digest it signs does not hold")
+			case err != nil:
+				report("FAIL", "signature: "+err.Error())
+			default:
+				report("ok", "signature of key "+rec.Signature.KeyID+" checked with --public-key")
+			}
+			reproduced, why := reproduce(cmd, rec)
+			report(map[bool]string{true: "ok", false: "FAIL"}[reproduced], "re-run from the embedded card reproduces the record"+why)
+			if bad > 0 {
+				return notIntact()
+			}
+			state := "unsigned"
+			if rec.Signature != nil {
+				state = "signed by key " + rec.Signature.KeyID
+				if pub == nil {
+					state += " (not checked)"
+				}
+			}
+			fmt.Fprintf(e.stdout, "%s: intact, %s; verdict %s\n", args[0], state, rec.Verdict)
 			return nil
 		},
 	}
-	c.Flags().StringVar(&pubPath, "public-key", "", "ed25519 public key (PEM) to check the signature with")
+	c.Flags().StringVar(&pubPath, "public-key", "", "ed25519 public key (PEM) to check the signature with; an unsigned record then fails")
+	c.Flags().BoolVar(&requireSig, "require-signature", false, "fail a record that carries no signature")
 	return c
-}
-
-func sigNote(rec *checks.Record, pub []byte) string {
-	switch {
-	case rec.Signature == nil:
-		return " (record is not signed)"
-	case pub == nil:
-		return " (signed by key " + rec.Signature.KeyID + "; signature not checked: no --public-key)"
-	}
-	return " and signature (key " + rec.Signature.KeyID + ")"
-}
-
-func errNote(err error) string {
-	if err == nil {
-		return ""
-	}
-	return ": " + err.Error()
 }
 
 // reproduce re-runs the verification of the record's embedded canonical card

@@ -29,7 +29,7 @@ Configuration: defaults < --config file < MATGATE_* environment < flags;
 see deploy/matgate.example.yaml.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			cfg, err := loadConfig(cmd, map[string]string{"server.listen": "listen", "store.dir": "store", "redis.url": "redis"})
+			cfg, err := loadConfig(cmd, map[string]string{"server.listen": "listen", "store.dir": "store", "store.create": "create-store", "redis.url": "redis"})
 			if err != nil {
 				return err
 			}
@@ -39,6 +39,7 @@ see deploy/matgate.example.yaml.`,
 	addConfigFlag(c)
 	c.Flags().String("listen", "", "host:port of the HTTP API (server.listen; default 127.0.0.1:8080)")
 	c.Flags().String("store", "", "records directory (store.dir; default matgate-records)")
+	c.Flags().Bool("create-store", false, "make the records directory if it is not one yet (store.create); without it serve refuses a directory without its marker, such as an unmounted volume")
 	c.Flags().String("redis", "", "Redis URL (redis.url; default redis://127.0.0.1:6379/0)")
 	return c
 }
@@ -52,7 +53,7 @@ func serve(ctx context.Context, e *env, cfg *Config, ready func(addr string)) er
 		return err
 	}
 	defer rdb.Close()
-	store, err := worker.OpenDirStore(cfg.Store.Dir)
+	store, err := worker.OpenStore(cfg.Store.Dir, worker.StoreOptions{Create: cfg.Store.Create, Log: log})
 	if err != nil {
 		return &exitError{code: exitInternal, err: err}
 	}
@@ -70,7 +71,7 @@ func serve(ctx context.Context, e *env, cfg *Config, ready func(addr string)) er
 	if err != nil {
 		return invalid("configuration: %v", err)
 	}
-	msrv, mux := worker.NewMaterializeServer(rdb, &worker.Materializer{Redis: rdb, Store: store, Observe: metrics.Duration.Observe},
+	msrv, mux := worker.NewMaterializeServer(rdb, &worker.Materializer{Redis: rdb, Store: store, Observe: metrics.Duration.Observe, Log: log},
 		worker.ServerOptions{ShutdownTimeout: cfg.Server.ShutdownTimeout, Logger: asynqLogger{log}, LogLevel: asynq.WarnLevel})
 	if err := msrv.Start(mux); err != nil {
 		return &exitError{code: exitInternal, err: fmt.Errorf("materialize queue: %w", err)}

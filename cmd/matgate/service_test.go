@@ -84,7 +84,15 @@ func TestServiceCommands(t *testing.T) {
 	os.WriteFile(cfg, []byte("redis:\n  url: "+redisURL+"\nauth:\n  tokens:\n    - name: ci\n      sha256: "+tok.SHA256+"\n      scopes: [submit, read]\nverify:\n  budget: 1m\n"), 0o644)
 	addr := "127.0.0.1:" + strconv.Itoa(freePort(t))
 	store := filepath.Join(dir, "records")
-	serveLog := background(t, "serve", "--config", cfg, "--listen", addr, "--store", store)
+	// serve refuses a records directory that does not exist yet (an
+	// unmounted volume looks like that) unless told to make one.
+	if code, _, errOut := matgate(t, "", "serve", "--config", cfg, "--listen", addr, "--store", store); code != exitInternal || !strings.Contains(errOut, "store.create") {
+		t.Errorf("serve on a missing records directory: exit %d, want %d\n%s", code, exitInternal, errOut)
+	}
+	if _, err := os.Stat(store); err == nil {
+		t.Errorf("serve made the records directory without --create-store")
+	}
+	serveLog := background(t, "serve", "--config", cfg, "--listen", addr, "--store", store, "--create-store")
 	background(t, "worker", "--config", cfg, "--concurrency", "2")
 	for deadline := time.Now().Add(10 * time.Second); ; time.Sleep(20 * time.Millisecond) {
 		resp, err := http.Get("http://" + addr + "/readyz")

@@ -1,10 +1,13 @@
 package main
 
 import (
+	"bytes"
 	"context"
 	"fmt"
 	"io"
+	"net"
 	"net/http"
+	"net/url"
 	"os"
 	"path/filepath"
 	"strings"
@@ -27,10 +30,17 @@ func newSubmitCmd(e *env) *cobra.Command {
 		Use:   "submit FILE|DIR...",
 		Short: "Submit cards to a matgate server, wait, and download the records",
 		Long: `submit checks each card locally, submits the valid ones to the server,
-waits up to --timeout for their verifications, and writes, per card, into
---out the same record and neutral card files as matgate verify:
+waits up to --timeout for their verifications and for the server to store
+their records, and writes, per card, into --out the same record and neutral
+card files as matgate verify:
 
   <id>-r<revision>.record.json    <id>-r<revision>.card.json
+
+The file names come from the cards submit read, never from the server. A
+downloaded record is taken only when its own digest holds and it names the
+card id, revision and card digest that submit computed, and the neutral
+card only when it is the one submit computes. Anything else is a service
+error.
 
 The token is read from the environment variable MATGATE_TOKEN only (a flag
 would show in process lists and CI logs); it needs the submit and read
@@ -38,7 +48,8 @@ scopes. A card whose reference curves are files is sent in its canonical
 form, with the curves inline.
 
 Exit 0 when every card passes, 1 when a verification failed, 2 when a card
-is invalid, 3 on a service error or when --timeout ran out.
+is invalid, 3 on a service error, a record that does not check out, or
+when --timeout ran out (for example while the server cannot store records).
 
 Verification shows that a card is integrated consistently and matches its
 references; it does not show fitness for design.`,
@@ -50,6 +61,13 @@ references; it does not show fitness for design.`,
 			}
 			if timeout <= 0 {
 				return &usageError{fmt.Errorf("--timeout %v: want a positive duration", timeout)}
+			}
+			plain, err := plainRemote(server)
+			if err != nil {
+				return &usageError{fmt.Errorf("--server %q: %w", server, err)}
+			}
+			if plain {
+				fmt.Fprintf(e.stderr, "warning: --server %s is plain http to another machine: the token and the records travel unencrypted and can be read or changed on the way; use https\n", server)
 			}
 			names, err := expandInputs(args, outDir)
 			if err != nil {
@@ -90,8 +108,10 @@ references; it does not show fitness for design.`,
 }
 
 type submitItem struct {
-	o   verifyOutcome
-	job string // "" when not submitted
+	o       verifyOutcome
+	digest  string // the card digest submit computed
+	neutral []byte // the neutral card submit computed
+	job     string // "" when not submitted
 }
 
 type submitter struct {
@@ -116,7 +136,7 @@ func (s *submitter) run(ctx context.Context, names []string) error {
 			it.o.Status = "invalid"
 			continue
 		}
-		it.o.ID, it.o.Revision = l.card.ID, l.card.Revision
+		it.o.ID, it.o.Revision, it.digest = l.card.ID, l.card.Revision, l.card.Digest
 		if cs, _ := lib.Add(worker.RefOf(l.doc, l.card)); len(cs) > 0 { // no store: no error
 			for _, c := range cs {
 				it.o.Problems = append(it.o.Problems, c.Diagnostic().String())
@@ -125,6 +145,9 @@ func (s *submitter) run(ctx context.Context, names []string) error {
 			continue
 		}
 		body, media, err := submission(s.e, n, l)
+		if err == nil {
+			it.neutral, err = convert.Indented(l.card)
+		}
 		if err != nil {
 			it.fail(err)
 			continue
@@ -201,6 +224,8 @@ func (s *submitter) wait(ctx context.Context) error {
 				it.fail(fmt.Errorf("job %s: %w", it.job, err))
 			case j.State == worker.JobFailed:
 				it.fail(fmt.Errorf("job %s failed after %d attempt(s): %s", it.job, j.Attempts, j.LastError))
+			case j.State == worker.JobDone && !j.Stored:
+				continue // verified, not yet a file in the records directory
 			case j.State == worker.JobDone:
 				if err := s.download(ctx, it); err != nil {
 					it.fail(err)
@@ -222,7 +247,7 @@ func (s *submitter) wait(ctx context.Context) error {
 			}
 			for _, it := range s.items {
 				if it.job != "" && it.o.Status == "" {
-					it.fail(fmt.Errorf("job %s not finished when --timeout ran out (%v)", it.job, ctx.Err()))
+					it.fail(fmt.Errorf("job %s not finished and stored when --timeout ran out (%v); the job's state: %s", it.job, ctx.Err(), s.client.BaseURL+"/v1/jobs/"+it.job))
 				}
 			}
 			return nil
@@ -236,23 +261,35 @@ func (s *submitter) wait(ctx context.Context) error {
 	return nil
 }
 
+// download fetches a finished job's record and neutral card and writes
+// them under names built from the card submit sent. Nothing the server
+// says is used as a path, and both files must be of that card: the
+// record's digest holds and it names the card's id, revision and digest.
 func (s *submitter) download(ctx context.Context, it *submitItem) error {
 	rec, err := s.client.Get(ctx, "/v1/records/"+it.job)
 	if err != nil {
 		return fmt.Errorf("record %s: %w", it.job, err)
 	}
+	r, err := checks.ParseRecord(rec)
+	if err == nil {
+		err = r.VerifyIntegrity(nil)
+	}
+	if err == nil {
+		err = it.sameCard(r.Card.ID, r.Card.Revision, r.Card.Digest)
+	}
+	if err != nil {
+		return fmt.Errorf("record %s refused: %w", it.job, err)
+	}
 	card, err := s.client.Get(ctx, "/v1/records/"+it.job+"/card")
 	if err != nil {
 		return fmt.Errorf("card %s: %w", it.job, err)
 	}
-	r, err := checks.ParseRecord(rec)
-	if err != nil {
-		return fmt.Errorf("record %s: %w", it.job, err)
+	if !bytes.Equal(card, it.neutral) {
+		return fmt.Errorf("neutral card %s refused: it is not the canonical form of the card submit sent", it.job)
 	}
-	if err := r.VerifyIntegrity(nil); err != nil {
-		return fmt.Errorf("record %s: %w", it.job, err)
-	}
-	base := filepath.Join(s.out, fmt.Sprintf("%s-r%d", r.Card.ID, r.Card.Revision))
+	// it.o.ID passed the card schema's id pattern, ^[a-z0-9][a-z0-9._-]*$:
+	// a plain file name.
+	base := filepath.Join(s.out, fmt.Sprintf("%s-r%d", it.o.ID, it.o.Revision))
 	for _, f := range []struct {
 		path string
 		b    []byte
@@ -264,6 +301,33 @@ func (s *submitter) download(ctx context.Context, it *submitItem) error {
 	}
 	it.o.fromRecord(r)
 	return nil
+}
+
+// sameCard reports whether a downloaded file names the card submit sent.
+func (it *submitItem) sameCard(id string, revision int, digest string) error {
+	if id != it.o.ID || revision != it.o.Revision || digest != it.digest {
+		return fmt.Errorf("it is of card %q r%d %s, but submit sent %s r%d %s (a server of another matgate version, or not the server it claims to be)",
+			id, revision, digest, it.o.ID, it.o.Revision, it.digest)
+	}
+	return nil
+}
+
+// plainRemote checks a server URL and reports whether it is plain http to
+// a host other than this machine's loopback.
+func plainRemote(server string) (bool, error) {
+	u, err := url.Parse(server)
+	if err != nil {
+		return false, err
+	}
+	if (u.Scheme != "http" && u.Scheme != "https") || u.Host == "" {
+		return false, fmt.Errorf("want http(s)://host[:port]")
+	}
+	if u.Scheme == "https" {
+		return false, nil
+	}
+	h := u.Hostname()
+	ip := net.ParseIP(h)
+	return !(h == "localhost" || ip != nil && ip.IsLoopback()), nil
 }
 
 // fromRecord fills the outcome's verdict and check counts from a record.

@@ -71,12 +71,28 @@ func Draw(seed uint64, i int) Params {
 	// 5 % and 120 % of the yield stress, the stiffest term first.
 	nAF := r.IntN(5)
 	gam := logU(800, 3000)
+	var sats []float64
+	total := 0.0
 	for k := 0; k < nAF; k++ {
 		sat := logU(0.05, 1.2) * p.SY
+		sats = append(sats, sat)
+		total += sat
 		p.AFGam = append(p.AFGam, gam)
-		p.AFC = append(p.AFC, sat*gam)
 		gam /= logU(3, 15)
 		gam = math.Max(gam, 2)
+	}
+	// The kinematic hardening of real metals saturates at up to about
+	// three times the yield stress for annealed austenitic stainless steel
+	// and at a fraction of it for high-strength steels and titanium and
+	// nickel alloys (from memory of published Chaboche fits): the sum of
+	// the saturations is kept below max(0.3 sigmaY, min(3 sigmaY, 700 MPa)).
+	if limit := math.Max(0.3*p.SY, math.Min(3*p.SY, 700)); total > limit {
+		for k := range sats {
+			sats[k] *= limit / total
+		}
+	}
+	for k, sat := range sats {
+		p.AFC = append(p.AFC, sat*p.AFGam[k])
 	}
 	// Linear term in about half the cards: Et between 0.2 % and 5 % of E.
 	switch r.IntN(4) {
