@@ -21,7 +21,6 @@ type Comparison struct {
 	NewResp *checks.Response `json:"-"`
 }
 
-
 // Compare computes the Comparison of two canonical cards (as
 // convert.Normalize writes them).
 func Compare(ctx context.Context, old, new *schema.Card) (*Comparison, error) {
