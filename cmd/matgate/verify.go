@@ -277,18 +277,8 @@ func verifyOne(cmd *cobra.Command, e *env, name string, opt verifyOptions) verif
 	for _, t := range out.Tables {
 		files[base+"."+t.Name+".csv"] = t.CSV()
 	}
-	if opt.withReport {
-		html, err := report.Render(out.Record)
-		if err != nil {
-			return fail(err)
-		}
-		files[base+".report.html"] = html
-	}
-	for _, p := range sortedKeys(files) {
-		if err := writeFileAtomic(p, files[p]); err != nil {
-			return fail(err)
-		}
-		o.Outputs = append(o.Outputs, p)
+	if err := writeOutputs(&o, files, base, opt.withReport, out.Record); err != nil {
+		return fail(err)
 	}
 	if store != nil {
 		// The same records directory as serve's: the job id of the card
@@ -408,20 +398,29 @@ func reuseStored(o verifyOutcome, store *worker.DirStore, id, base string, withR
 	o.fromRecord(r)
 	o.Reused = id
 	files := map[string][]byte{base + ".record.json": rec, base + ".card.json": card}
+	if err := writeOutputs(&o, files, base, withReport, r); err != nil {
+		return fail(err)
+	}
+	return o
+}
+
+// writeOutputs writes a card's output files (with the report of r when
+// asked) in name order and lists them in o.
+func writeOutputs(o *verifyOutcome, files map[string][]byte, base string, withReport bool, r *checks.Record) error {
 	if withReport {
 		html, err := report.Render(r)
 		if err != nil {
-			return fail(err)
+			return err
 		}
 		files[base+".report.html"] = html
 	}
 	for _, p := range sortedKeys(files) {
 		if err := writeFileAtomic(p, files[p]); err != nil {
-			return fail(err)
+			return err
 		}
 		o.Outputs = append(o.Outputs, p)
 	}
-	return o
+	return nil
 }
 
 // headlineChanges words the changes of a comparison of at least 0.1 %

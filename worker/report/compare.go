@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"fmt"
 	"html/template"
-	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -93,19 +92,7 @@ func overlaySVG(title string, old, new Side, curve func(*checks.Response) [][2]f
 	}
 	p.Legend.Top, p.Legend.Left = true, true
 	p.Add(plotter.NewGrid())
-	w, err := p.WriterTo(6*vg.Inch, 4*vg.Inch, "svg")
-	if err != nil {
-		return "", err
-	}
-	var buf bytes.Buffer
-	if _, err := w.WriteTo(&buf); err != nil {
-		return "", err
-	}
-	svg := buf.String()
-	if i := strings.Index(svg, "<svg"); i > 0 {
-		svg = svg[i:]
-	}
-	return template.HTML(svg), nil // produced by gonum/plot from numbers, not user text
+	return inlineSVG(p)
 }
 
 var compareTemplate = template.Must(template.New("compare").Parse(`<!DOCTYPE html>

@@ -86,19 +86,7 @@ func plotCase(c checks.Case, shear bool) (template.HTML, error) {
 	if err != nil {
 		return "", err
 	}
-	w, err := p.WriterTo(6*vg.Inch, 4*vg.Inch, "svg")
-	if err != nil {
-		return "", err
-	}
-	var buf bytes.Buffer
-	if _, err := w.WriteTo(&buf); err != nil {
-		return "", err
-	}
-	svg := buf.String()
-	if i := strings.Index(svg, "<svg"); i > 0 {
-		svg = svg[i:] // drop the XML prolog: the SVG is inline in HTML
-	}
-	return template.HTML(svg), nil // produced by gonum/plot from numbers, not user text
+	return inlineSVG(p)
 }
 
 // buildPlot lays out the plot of one case.
@@ -200,3 +188,20 @@ tr.broke td{background:#fbeae3}.small{color:#555;font-size:.85em}
 {{end}}{{end}}
 </body></html>
 `))
+
+// inlineSVG renders a plot as SVG for inline use in HTML (no XML prolog).
+func inlineSVG(p *plot.Plot) (template.HTML, error) {
+	w, err := p.WriterTo(6*vg.Inch, 4*vg.Inch, "svg")
+	if err != nil {
+		return "", err
+	}
+	var buf bytes.Buffer
+	if _, err := w.WriteTo(&buf); err != nil {
+		return "", err
+	}
+	svg := buf.String()
+	if i := strings.Index(svg, "<svg"); i > 0 {
+		svg = svg[i:] // drop the XML prolog: the SVG is inline in HTML
+	}
+	return template.HTML(svg), nil // produced by gonum/plot from numbers, not user text
+}
