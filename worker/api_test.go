@@ -316,6 +316,15 @@ func TestAPIBadInput(t *testing.T) {
 	s := newAPIStack(t, false, time.Second)
 	card, _ := os.ReadFile("../testdata/cards/al-bilinear.yaml")
 	invalid := strings.Replace(strings.Replace(string(card), "youngs_modulus: 10200", "youngs_modulus: -10200", 1), "poisson_ratio: 0.33", "poisson_ratio: 0.7", 1)
+	// A reference history too long to replay (12,000 segments of 0.1
+	// strain, about 3 million increments at a tenth of the yield strain,
+	// above checks.MaxReplayIncrements): the verification refuses it, so serve refuses it at the
+	// door, located at the reference, instead of a worker failing it later.
+	pts := []string{"[0, 0]"}
+	for range 6000 {
+		pts = append(pts, "[0.05, 60]", "[-0.05, -60]")
+	}
+	long := string(card) + "verification:\n  references:\n    - {name: long, kind: measured, points: [" + strings.Join(pts, ", ") + "]}\n"
 	tests := []struct {
 		name, ctype, body string
 		want              int
@@ -327,6 +336,7 @@ func TestAPIBadInput(t *testing.T) {
 		{"JSON declared, YAML sent", "application/json", string(card), 400, []string{"JSON"}},
 		{"malformed YAML", "application/yaml", "format: matgate.card/1\nid: [unclosed\n", 400, []string{"card:"}},
 		{"invalid card", "application/yaml", invalid, 422, []string{"/elastic/youngs_modulus", "/elastic/poisson_ratio"}},
+		{"reference too long to replay", "application/yaml", long, 422, []string{"/verification/references/0"}},
 	}
 	for _, tc := range tests {
 		resp, body := s.do(t, "POST", "/v1/cards", secretAll, tc.ctype, strings.NewReader(tc.body))

@@ -2,6 +2,7 @@ package worker
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"time"
 
@@ -92,4 +93,19 @@ func Verify(ctx context.Context, c *schema.Card, tool checks.Tool, created time.
 		return nil, err
 	}
 	return &Outputs{Record: rec, Card: card, Tables: tables, Diagnoses: diags}, nil
+}
+
+// SpecDiagnostic words a spec that the verification refused
+// (checks.ErrInvalidSpec) as a diagnostic of the card: located at the
+// card's reference when it is about one (the spec's references are the
+// card's, in order: Spec), else at the card.
+func SpecDiagnostic(doc *schema.Document, err error) schema.Diagnostic {
+	var se *checks.SpecError
+	var i int
+	if errors.As(err, &se) {
+		if _, serr := fmt.Sscanf(se.Field, "References[%d]", &i); serr == nil {
+			return doc.Diag(schema.SeverityError, fmt.Sprintf("/verification/references/%d", i), "%s", se.Reason)
+		}
+	}
+	return doc.Diag(schema.SeverityError, "", "the verification cannot take this card: %v", err)
 }

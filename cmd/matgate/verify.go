@@ -14,7 +14,6 @@ import (
 	"github.com/spf13/cobra"
 
 	"matgate/checks"
-	"matgate/schema"
 	"matgate/worker"
 	"matgate/worker/report"
 )
@@ -248,7 +247,7 @@ func verifyOne(cmd *cobra.Command, e *env, name string, opt verifyOptions) verif
 		// A card the verification cannot take (such as a reference too
 		// long to replay): invalid input, not an internal error.
 		o.Status = "invalid"
-		o.Problems = append(o.Problems, specProblem(l, err))
+		o.Problems = append(o.Problems, worker.SpecDiagnostic(l.doc, err).String())
 		return o
 	}
 	if err != nil {
@@ -314,20 +313,6 @@ func (o verifyOutcome) print(e *env) {
 	default:
 		fmt.Fprintf(e.stdout, "%s %s\n", o.Status, o.File)
 	}
-}
-
-// specProblem words a spec the verification refused, located at the
-// card's reference when it is about one (the spec's references are the
-// card's, in order: worker.Spec).
-func specProblem(l loaded, err error) string {
-	var se *checks.SpecError
-	var i int
-	if errors.As(err, &se) && l.doc != nil {
-		if _, serr := fmt.Sscanf(se.Field, "References[%d]", &i); serr == nil {
-			return l.doc.Diag(schema.SeverityError, fmt.Sprintf("/verification/references/%d", i), "%s", se.Reason).String()
-		}
-	}
-	return fmt.Sprintf("%s: %v", l.file, err)
 }
 
 // outcomeFinding is one finding as `verify --format json` prints it.
