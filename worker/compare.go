@@ -3,6 +3,7 @@ package worker
 import (
 	"context"
 	"fmt"
+	"math"
 
 	"matgate/checks"
 	"matgate/schema"
@@ -83,8 +84,7 @@ func (c *Comparison) Exceeding(limit float64) []checks.Change {
 // none. When several records hold that revision (one per tool version) the
 // latest in the ledger is taken.
 func PreviousRevision(s *DirStore, c *schema.Card) (*schema.Card, error) {
-	entries, n := s.List(c.ID, 0, 0)
-	entries, _ = s.List(c.ID, 0, n)
+	entries, _ := s.List(c.ID, 0, math.MaxInt)
 	var best *LedgerEntry
 	for i := range entries {
 		e := &entries[i]
