@@ -7,18 +7,27 @@ const Format = "matgate.card/1"
 // it states. Optional fields are pointers or nil slices, so that "absent" and
 // "zero" stay distinct; convert.Normalize writes every default out.
 type Card struct {
-	Format       string        `json:"format"`
-	ID           string        `json:"id"`
-	Revision     int           `json:"revision"`
-	Title        string        `json:"title"`
-	Source       string        `json:"source"`
-	Units        Units         `json:"units"`
-	Temperature  *float64      `json:"temperature,omitempty"`
+	Format      string   `json:"format"`
+	ID          string   `json:"id"`
+	Revision    int      `json:"revision"`
+	Title       string   `json:"title"`
+	Source      string   `json:"source"`
+	Units       Units    `json:"units"`
+	Temperature *float64 `json:"temperature,omitempty"`
+	// Temperatures makes the card temperature-dependent (see Tabulated):
+	// strictly increasing, in Units.Temperature; nil for a card at one
+	// temperature.
+	Temperatures []float64     `json:"temperatures,omitempty"`
 	Elastic      Elastic       `json:"elastic"`
 	Plasticity   Plasticity    `json:"plasticity"`
 	Verification *Verification `json:"verification,omitempty"`
 	Derived      *Derived      `json:"derived,omitempty"`
 	Digest       string        `json:"digest,omitempty"`
+	// Tabulated holds the parameters given as a list with one value per
+	// entry of Temperatures, by JSON pointer (see Tabulable); the struct
+	// field then holds the first value. Nil for a card at one temperature.
+	// The JSON encoding writes each list in place.
+	Tabulated map[string][]float64 `json:"-"`
 }
 
 // Units names the units that every stress-like value in the card is written
@@ -26,7 +35,7 @@ type Card struct {
 // reference-curve stresses) and the unit of Temperature.
 type Units struct {
 	Stress      string `json:"stress"`                // Pa, kPa, MPa, GPa, psi or ksi
-	Temperature string `json:"temperature,omitempty"` // K, C or F; required when Card.Temperature is set
+	Temperature string `json:"temperature,omitempty"` // K, C or F; required when Card.Temperature or Card.Temperatures is set
 }
 
 // Elastic holds the isotropic elastic constants.

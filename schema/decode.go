@@ -166,6 +166,7 @@ func Decode(file string, data []byte, opts *DecodeOptions) (*Document, error) {
 	}
 	doc.Value = v
 	b.validate(v)
+	b.checkTemperatures(v)
 	if len(b.diags) == 0 {
 		card, err := toCard(v)
 		if err != nil {
@@ -179,17 +180,19 @@ func Decode(file string, data []byte, opts *DecodeOptions) (*Document, error) {
 
 // toCard decodes a validated tree into a Card.
 func toCard(v any) (*Card, error) {
+	v, lists := splitLists(v)
 	raw, err := json.Marshal(v)
 	if err != nil {
 		return nil, err
 	}
 	dec := json.NewDecoder(bytes.NewReader(raw))
 	dec.DisallowUnknownFields()
-	var c Card
+	var c plainCard
 	if err := dec.Decode(&c); err != nil {
 		return nil, err
 	}
-	return &c, nil
+	c.Tabulated = lists
+	return (*Card)(&c), nil
 }
 
 // builder collects the tree's positions and the diagnostics of one Decode.
