@@ -138,6 +138,27 @@ func verificationDefaults(n *schema.Card, given *schema.Verification, f float64,
 	if given == nil {
 		return &v, nil
 	}
+	if given.Cycles == nil && len(given.StrainAmplitudes) > 0 {
+		v.Cycles = ptr(defaultCycles(n, given.StrainAmplitudes[0]))
+	}
+	return mergeVerification(v, given, f, opts)
+}
+
+// verificationGiven is the verification block of a temperature-dependent
+// card: the block as given (stresses in Pa, references inlined) and the
+// profile; the cases it does not size are sized at each temperature by
+// Defaults when the card is verified.
+func verificationGiven(given *schema.Verification, f float64, opts *Options) (*schema.Verification, error) {
+	v := schema.Verification{Profile: schema.ProfileStandard}
+	if given == nil {
+		return &v, nil
+	}
+	return mergeVerification(v, given, f, opts)
+}
+
+// mergeVerification writes what the card's verification block given (in
+// its stress unit, factor f to Pa) states over v.
+func mergeVerification(v schema.Verification, given *schema.Verification, f float64, opts *Options) (*schema.Verification, error) {
 	if given.Profile != "" {
 		v.Profile = given.Profile
 	}
@@ -149,8 +170,6 @@ func verificationDefaults(n *schema.Card, given *schema.Verification, f float64,
 	}
 	if given.Cycles != nil {
 		v.Cycles = ptr(*given.Cycles)
-	} else if len(v.StrainAmplitudes) > 0 {
-		v.Cycles = ptr(defaultCycles(n, v.StrainAmplitudes[0]))
 	}
 	if r := given.Ratcheting; r != nil {
 		v.Ratcheting = &schema.Ratcheting{MeanStress: round15(r.MeanStress * f), StressAmplitude: round15(r.StressAmplitude * f), Cycles: r.Cycles}

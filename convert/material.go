@@ -10,6 +10,9 @@ import (
 // Material returns the integrator's material for a canonical card (SI
 // units, linear terms in plastic_modulus form, as Normalize writes them).
 func Material(c *schema.Card) (plastic.Material, error) {
+	if c.IsTemperatureDependent() {
+		return plastic.Material{}, fmt.Errorf("material of card %s: the card is temperature-dependent: take its card at one temperature (At)", c.ID)
+	}
 	if c.Units.Stress != "Pa" {
 		return plastic.Material{}, fmt.Errorf("material of card %s: not canonical (stress unit %s, want Pa)", c.ID, c.Units.Stress)
 	}

@@ -7,6 +7,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"strings"
 
 	"github.com/gowebpki/jcs"
 
@@ -41,7 +42,13 @@ func (e *FieldError) Unwrap() error { return e.Err }
 //
 // The canonical card is itself a valid card, and Normalize(Normalize(c))
 // equals Normalize(c). c is not modified.
+//
+// A temperature-dependent card (c.Temperatures) is normalized temperature
+// by temperature and merged back (see normalizeTable).
 func Normalize(c *schema.Card, opts *Options) (*schema.Card, error) {
+	if c.IsTemperatureDependent() {
+		return normalizeTable(c, opts)
+	}
 	if opts == nil {
 		opts = &Options{}
 	}
@@ -49,6 +56,28 @@ func Normalize(c *schema.Card, opts *Options) (*schema.Card, error) {
 	if err != nil {
 		return nil, &FieldError{Pointer: "/units/stress", Err: err}
 	}
+	n, err := normalizeParams(c, f)
+	if err != nil {
+		return nil, err
+	}
+	v, err := verificationDefaults(n, c.Verification, f, opts)
+	if err != nil {
+		return nil, err
+	}
+	n.Verification = v
+
+	d := Derive(n)
+	n.Derived = &d
+	if n.Digest, err = Digest(n); err != nil {
+		return nil, err
+	}
+	return n, nil
+}
+
+// normalizeParams returns the canonical form of the identity, units,
+// temperature and material parameters of the one-temperature card c, whose
+// stresses are v*f pascal: no verification block, derived block or digest.
+func normalizeParams(c *schema.Card, f float64) (*schema.Card, error) {
 	s := func(v float64) float64 { return round15(v * f) }
 	sp := func(v *float64) *float64 {
 		if v == nil {
@@ -100,18 +129,6 @@ func Normalize(c *schema.Card, opts *Options) (*schema.Card, error) {
 	}
 	if iso := c.Plasticity.Isotropic; iso != nil {
 		n.Plasticity.Isotropic = &schema.Isotropic{Model: iso.Model, Modulus: sp(iso.Modulus), Q: sp(iso.Q), B: iso.B}
-	}
-
-	v, err := verificationDefaults(n, c.Verification, f, opts)
-	if err != nil {
-		return nil, err
-	}
-	n.Verification = v
-
-	d := Derive(n)
-	n.Derived = &d
-	if n.Digest, err = Digest(n); err != nil {
-		return nil, err
 	}
 	return n, nil
 }
@@ -165,6 +182,14 @@ func Digest(c *schema.Card) (string, error) {
 	bare := *c
 	bare.Derived = nil
 	bare.Digest = ""
+	if len(c.Tabulated) > 0 {
+		bare.Tabulated = map[string][]float64{}
+		for p, l := range c.Tabulated {
+			if !strings.HasPrefix(p, "/derived/") {
+				bare.Tabulated[p] = l
+			}
+		}
+	}
 	b, err := Canonical(&bare)
 	if err != nil {
 		return "", err

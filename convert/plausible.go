@@ -105,8 +105,18 @@ func MaxHardening(E, sy float64) float64 {
 
 // Plausibility returns the errors and warnings about a card that passed the
 // schema but may not be physical, each located in the card's source. The
-// card is read as written (its own units).
+// card is read as written (its own units). A temperature-dependent card is
+// checked at each of its temperatures and across them
+// (temperaturePlausibility).
 func Plausibility(doc *schema.Document) schema.Diagnostics {
+	if doc.Card.IsTemperatureDependent() {
+		return append(perTemperature(doc, plausibilityAt), temperaturePlausibility(doc)...)
+	}
+	return plausibilityAt(doc)
+}
+
+// plausibilityAt is Plausibility for a card of one temperature.
+func plausibilityAt(doc *schema.Document) schema.Diagnostics {
 	c := doc.Card
 	var ds schema.Diagnostics
 	add := func(sev schema.Severity, pointer, format string, args ...any) {
@@ -429,14 +439,41 @@ func Prepare(doc *schema.Document, opts *Options) (*schema.Card, schema.Diagnost
 		}
 		return nil, sortDiags(append(ds, doc.Diag(schema.SeverityError, "", "%v", err)))
 	}
-	ds = append(append(ds, checkStated(doc, n)...), Sizing(doc, n)...)
-	if _, err := Material(n); err != nil {
-		ds = append(ds, doc.Diag(schema.SeverityError, "/plasticity", "the integrator cannot use these parameters: %v", err))
+	if doc.Card.IsTemperatureDependent() {
+		ds = append(append(ds, checkDigest(doc, n)...), perTemperature(doc, func(sd *schema.Document) schema.Diagnostics {
+			nk, err := Normalize(sd.Card, opts)
+			if err != nil {
+				return schema.Diagnostics{sd.Diag(schema.SeverityError, "", "%v", err)}
+			}
+			return append(checkStated(sd), usable(sd, nk)...)
+		})...)
+	} else {
+		ds = append(append(ds, checkDigest(doc, n)...), checkStated(doc)...)
+		ds = append(ds, usable(doc, n)...)
 	}
 	if ds.HasErrors() {
 		return nil, sortDiags(ds)
 	}
 	return n, sortDiags(ds)
+}
+
+// usable returns the diagnostics of the canonical card n of a card of one
+// temperature that the reference integrator and the sizing limits give.
+func usable(doc *schema.Document, n *schema.Card) schema.Diagnostics {
+	ds := Sizing(doc, n)
+	if _, err := Material(n); err != nil {
+		ds = append(ds, doc.Diag(schema.SeverityError, "/plasticity", "the integrator cannot use these parameters: %v", err))
+	}
+	return ds
+}
+
+// checkDigest compares the digest a card states with the one recomputed;
+// n is the card's canonical form.
+func checkDigest(doc *schema.Document, n *schema.Card) schema.Diagnostics {
+	if c := doc.Card; c.Digest != "" && c.Digest != n.Digest {
+		return schema.Diagnostics{doc.Diag(schema.SeverityError, "/digest", "digest %s does not match the card's content, whose digest is %s: the card was changed after it was normalized", c.Digest, n.Digest)}
+	}
+	return nil
 }
 
 // sortDiags orders diagnostics by source position, as a reader goes
@@ -457,14 +494,11 @@ func sortDiags(ds schema.Diagnostics) schema.Diagnostics {
 // shortest round-trip decimals, so anything beyond round-off is a change.
 const statedTolerance = 1e-12
 
-// checkStated compares the derived block and digest a card states with
-// those recomputed; n is the card's canonical form.
-func checkStated(doc *schema.Document, n *schema.Card) schema.Diagnostics {
+// checkStated compares the derived block a card of one temperature states
+// with the one recomputed.
+func checkStated(doc *schema.Document) schema.Diagnostics {
 	var ds schema.Diagnostics
 	c := doc.Card
-	if c.Digest != "" && c.Digest != n.Digest {
-		ds = append(ds, doc.Diag(schema.SeverityError, "/digest", "digest %s does not match the card's content, whose digest is %s: the card was changed after it was normalized", c.Digest, n.Digest))
-	}
 	if c.Derived == nil {
 		return ds
 	}

@@ -1,0 +1,508 @@
+package convert
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"math"
+	"sort"
+	"strconv"
+	"strings"
+
+	"matgate/schema"
+)
+
+// Temperature-dependent cards (schema.Card.Temperatures): a table of
+// single-temperature cards that share everything but their material
+// parameters. Between neighbouring temperatures every canonical parameter
+// (E, nu, yield stress, each term's plastic modulus H or c and gamma, K or
+// q and b, in SI) is interpolated linearly in temperature; outside the
+// tabulated range nothing is extrapolated. The canonical parameters are the
+// ones interpolated: a linear term given by its tangent modulus Et is
+// interpolated as H = E Et / (E - Et), which is not linear in Et.
+
+// ErrOutOfRange is returned (wrapped in a *RangeError) when a temperature
+// lies outside a card's tabulated range.
+var ErrOutOfRange = errors.New("temperature outside the card's tabulated range")
+
+// RangeError says which temperature left which range, in kelvin.
+type RangeError struct {
+	T, Lo, Hi float64
+}
+
+func (e *RangeError) Error() string {
+	return fmt.Sprintf("temperature %.6g K is outside the card's tabulated range %.6g to %.6g K: matgate interpolates between tabulated temperatures and does not extrapolate", e.T, e.Lo, e.Hi)
+}
+func (e *RangeError) Unwrap() error { return ErrOutOfRange }
+
+// Slice returns the single-temperature card that c, a temperature-dependent
+// card, holds at its k-th temperature: every list replaced by its k-th
+// value (derived values too), temperature set to the k-th temperature, no
+// digest. A card of one
+// temperature is returned as a copy. c is not modified.
+func Slice(c *schema.Card, k int) (*schema.Card, error) {
+	if !c.IsTemperatureDependent() {
+		cp, err := copyCard(c)
+		return cp, err
+	}
+	if k < 0 || k >= len(c.Temperatures) {
+		panic(fmt.Sprintf("convert.Slice: index %d of %d temperatures", k, len(c.Temperatures)))
+	}
+	return interpolate(c, k, k, 0)
+}
+
+// At returns the canonical single-temperature card that the canonical
+// temperature-dependent card n holds at T kelvin: at a tabulated
+// temperature the tabulated values themselves, between two the linear
+// interpolation (1 - w) v_k + w v_k+1 with w = (T - T_k)/(T_k+1 - T_k),
+// exact at both ends, then normalized (verification defaults sized for that
+// temperature). Outside the range a *RangeError.
+func At(n *schema.Card, T float64) (*schema.Card, error) {
+	if !n.IsTemperatureDependent() {
+		return nil, fmt.Errorf("card %s is not temperature-dependent", n.ID)
+	}
+	if n.Units.Temperature != "K" || n.Units.Stress != "Pa" {
+		return nil, fmt.Errorf("card %s is not canonical (units %s, %s)", n.ID, n.Units.Stress, n.Units.Temperature)
+	}
+	ts := n.Temperatures
+	lo, hi := ts[0], ts[len(ts)-1]
+	if !(T >= lo && T <= hi) {
+		return nil, &RangeError{T: T, Lo: lo, Hi: hi}
+	}
+	k := sort.SearchFloat64s(ts, T) // first ts[k] >= T
+	var s *schema.Card
+	var err error
+	if ts[k] == T {
+		s, err = interpolate(n, k, k, 0)
+	} else {
+		s, err = interpolate(n, k-1, k, (T-ts[k-1])/(ts[k]-ts[k-1]))
+		if err == nil {
+			s.Temperature = ptr(round15(T))
+		}
+	}
+	if err != nil {
+		return nil, err
+	}
+	return Normalize(s, nil)
+}
+
+// interpolate returns the card of one temperature (1 - w) card[j] + w
+// card[k] (w = 0: card[j] exactly, derived values included), with
+// temperature ts[j] when w = 0 and the interpolated one otherwise, no
+// derived block when w != 0, and no digest.
+func interpolate(c *schema.Card, j, k int, w float64) (*schema.Card, error) {
+	s, err := copyCard(c)
+	if err != nil {
+		return nil, err
+	}
+	ts := c.Temperatures
+	s.Temperatures, s.Tabulated = nil, nil
+	s.Temperature = ptr((1-w)*ts[j] + w*ts[k])
+	s.Digest = ""
+	if w != 0 {
+		s.Derived = nil // derived values are not linear in temperature
+	}
+	tree, err := toTree(s)
+	if err != nil {
+		return nil, err
+	}
+	for p, list := range c.Tabulated {
+		if w != 0 && strings.HasPrefix(p, "/derived/") {
+			continue
+		}
+		v := list[j]
+		if w != 0 {
+			v = (1-w)*list[j] + w*list[k]
+		}
+		if !setNumber(tree, p, v) {
+			return nil, fmt.Errorf("card %s: tabulated value %s has no place in the card", c.ID, p)
+		}
+	}
+	return fromTree(tree)
+}
+
+// merge returns the temperature-dependent card whose k-th temperature is
+// cards[k] (one-temperature cards that differ only in tabulable values):
+// every tabulable number that differs between them becomes a list, one
+// that is equal stays a number, and a derived value present at some
+// temperatures only is left out. The result has temps as its temperatures
+// and no temperature.
+func merge(cards []*schema.Card, temps []float64) (*schema.Card, error) {
+	trees := make([]any, len(cards))
+	for i, c := range cards {
+		t, err := toTree(c)
+		if err != nil {
+			return nil, err
+		}
+		trees[i] = t
+	}
+	var walk func(v any, pointer string) (any, bool)
+	walk = func(v any, pointer string) (any, bool) {
+		switch t := v.(type) {
+		case map[string]any:
+			out := map[string]any{}
+			for key, x := range t {
+				p := pointer + "/" + strings.NewReplacer("~", "~0", "/", "~1").Replace(key)
+				if y, keep := walk(x, p); keep {
+					out[key] = y
+				}
+			}
+			return out, true
+		case []any:
+			out := make([]any, 0, len(t))
+			for i, x := range t {
+				if y, keep := walk(x, pointer+"/"+strconv.Itoa(i)); keep {
+					out = append(out, y)
+				}
+			}
+			return out, true
+		case json.Number:
+			if !schema.Tabulable(pointer) {
+				return t, true
+			}
+			vals := make([]any, len(trees))
+			same := true
+			for i, tr := range trees {
+				x, ok := lookupTree(tr, pointer)
+				if !ok {
+					return nil, false
+				}
+				vals[i] = x
+				same = same && x == t
+			}
+			if same {
+				return t, true
+			}
+			return vals, true
+		}
+		return v, true
+	}
+	out, _ := walk(trees[0], "")
+	root := out.(map[string]any)
+	delete(root, "temperature")
+	temperatures := make([]any, len(temps))
+	for i, x := range temps {
+		temperatures[i] = x
+	}
+	root["temperatures"] = temperatures
+	return fromTree(root)
+}
+
+// normalizeTable is Normalize for a temperature-dependent card: each
+// temperature's parameters normalized as a card of their own (the
+// temperatures in kelvin), merged back into lists, the verification block
+// as the card gives it (cases not sized there are sized at each
+// temperature when the card is verified, see At), the derived values per
+// temperature, and the digest of the whole.
+func normalizeTable(c *schema.Card, opts *Options) (*schema.Card, error) {
+	if opts == nil {
+		opts = &Options{}
+	}
+	f, err := StressFactor(c.Units.Stress)
+	if err != nil {
+		return nil, &FieldError{Pointer: "/units/stress", Err: err}
+	}
+	n := len(c.Temperatures)
+	cards := make([]*schema.Card, n)
+	temps := make([]float64, n)
+	for k := range c.Temperatures {
+		s, err := Slice(c, k)
+		if err != nil {
+			return nil, err
+		}
+		s.Verification = nil
+		nk, err := normalizeParams(s, f)
+		if err != nil {
+			var fe *FieldError
+			if errors.As(err, &fe) {
+				return nil, &FieldError{Pointer: tablePointer(c, fe.Pointer, k), Err: fmt.Errorf("at %s: %w", TemperatureText(c, k), fe.Err)}
+			}
+			return nil, err
+		}
+		d := Derive(nk)
+		nk.Derived = &d
+		cards[k] = nk
+		temps[k] = *nk.Temperature
+	}
+	out, err := merge(cards, temps)
+	if err != nil {
+		return nil, err
+	}
+	out.Verification, err = verificationGiven(c.Verification, f, opts)
+	if err != nil {
+		return nil, err
+	}
+	if out.Digest, err = Digest(out); err != nil {
+		return nil, err
+	}
+	return out, nil
+}
+
+// TemperatureText names the k-th temperature of c as written, with its
+// unit ("200 C").
+func TemperatureText(c *schema.Card, k int) string {
+	return fmt.Sprintf("%g %s", c.Temperatures[k], c.Units.Temperature)
+}
+
+// tablePointer is the pointer of the k-th value of the parameter at
+// pointer when the card tabulates it, the pointer itself otherwise.
+func tablePointer(c *schema.Card, pointer string, k int) string {
+	if _, ok := c.Tabulated[pointer]; ok {
+		return pointer + "/" + strconv.Itoa(k)
+	}
+	return pointer
+}
+
+// perTemperature runs the single-temperature diagnosis fn on the card of
+// doc at each of its temperatures and locates what it finds: a finding on
+// a tabulated parameter at the parameter's value for that temperature,
+// each message prefixed with the temperature; a finding that is the same
+// at every temperature on a value that is not tabulated once, without the
+// prefix.
+func perTemperature(doc *schema.Document, fn func(*schema.Document) schema.Diagnostics) schema.Diagnostics {
+	c := doc.Card
+	type key struct {
+		pointer, message string
+		sev              schema.Severity
+	}
+	count := map[key]int{}
+	var all []schema.Diagnostics
+	for k := range c.Temperatures {
+		s, err := Slice(c, k)
+		if err != nil {
+			return schema.Diagnostics{doc.Diag(schema.SeverityError, "/temperatures", "internal error: %v", err)}
+		}
+		sd := *doc
+		sd.Card = s
+		ds := fn(&sd)
+		all = append(all, ds)
+		for _, d := range ds {
+			count[key{d.Pointer, d.Message, d.Severity}]++
+		}
+	}
+	var out schema.Diagnostics
+	seen := map[key]bool{}
+	for k, ds := range all {
+		for _, d := range ds {
+			kk := key{d.Pointer, d.Message, d.Severity}
+			if _, tab := c.Tabulated[d.Pointer]; !tab && count[kk] == len(c.Temperatures) {
+				if !seen[kk] {
+					seen[kk] = true
+					out = append(out, d)
+				}
+				continue
+			}
+			out = append(out, doc.Diag(d.Severity, tablePointer(c, d.Pointer, k), "at %s: %s", TemperatureText(c, k), d.Message))
+		}
+	}
+	return out
+}
+
+// Plausibility limits across temperature.
+const (
+	// maxSaturationJump is the largest factor by which a saturation stress
+	// (an Armstrong-Frederick term's c/gamma, Voce's q) may change between
+	// neighbouring temperatures without a warning. The yield strength of
+	// structural carbon steel changes by at most about a factor 2 between
+	// neighbouring rows 100 K apart of the reduction factors of EN 1993-1-2
+	// (2005), Table 3.1 (k_y,theta 0.47 at 600 C, 0.23 at 700 C; from
+	// memory), the steepest part of the table; hardening that changes
+	// faster than the strength itself makes interpolated cards between the
+	// rows meaningless.
+	maxSaturationJump = 2.0
+)
+
+// temperaturePlausibility returns the warnings about how a
+// temperature-dependent card's parameters change with temperature: E or
+// the yield stress rising with temperature (a value in the wrong column),
+// a saturation stress that changes by more than maxSaturationJump or
+// changes sign between neighbours, and a term present at one temperature
+// and absent (zero) at another. Poisson's ratio and every single-temperature
+// rule are checked at each temperature by perTemperature.
+func temperaturePlausibility(doc *schema.Document) schema.Diagnostics {
+	c := doc.Card
+	var ds schema.Diagnostics
+	unit, tu := c.Units.Stress, c.Units.Temperature
+	values := func(pointer string, v float64) []float64 {
+		if l, ok := c.Tabulated[pointer]; ok {
+			return l
+		}
+		out := make([]float64, len(c.Temperatures))
+		for i := range out {
+			out[i] = v
+		}
+		return out
+	}
+	ts := c.Temperatures
+	rising := func(pointer, what string, v float64) {
+		l := values(pointer, v)
+		for k := 1; k < len(l); k++ {
+			if l[k] > l[k-1] {
+				ds = append(ds, doc.Diag(schema.SeverityWarning, tablePointer(c, pointer, k),
+					"%s rises with temperature, from %g %s at %g %s to %g %s at %g %s: metals soften as they heat; is a value in the wrong column?",
+					what, l[k-1], unit, ts[k-1], tu, l[k], unit, ts[k], tu))
+			}
+		}
+	}
+	rising("/elastic/youngs_modulus", "Young's modulus", c.Elastic.YoungsModulus)
+	rising("/plasticity/yield_stress", "the yield stress", c.Plasticity.YieldStress)
+
+	jumps := func(pointer, what string, sat []float64) {
+		for k := 1; k < len(sat); k++ {
+			a, b := sat[k-1], sat[k]
+			switch {
+			case a == 0 || b == 0:
+			case a*b < 0:
+				ds = append(ds, doc.Diag(schema.SeverityWarning, tablePointer(c, pointer, k),
+					"%s changes sign between neighbouring temperatures, %g %s at %g %s and %g %s at %g %s: the interpolated cards between them pass through no hardening at all",
+					what, a, unit, ts[k-1], tu, b, unit, ts[k], tu))
+			case math.Max(math.Abs(a/b), math.Abs(b/a)) > maxSaturationJump:
+				ds = append(ds, doc.Diag(schema.SeverityWarning, tablePointer(c, pointer, k),
+					"%s changes by a factor %.3g between neighbouring temperatures, %g %s at %g %s and %g %s at %g %s, more than %g: the interpolated cards between them are not a material's",
+					what, math.Max(math.Abs(a/b), math.Abs(b/a)), a, unit, ts[k-1], tu, b, unit, ts[k], tu, maxSaturationJump))
+			}
+		}
+	}
+	presence := func(pointer, what string, l []float64) {
+		var on, off []string
+		for k, x := range l {
+			if x == 0 {
+				off = append(off, fmt.Sprintf("%g", ts[k]))
+			} else {
+				on = append(on, fmt.Sprintf("%g", ts[k]))
+			}
+		}
+		if len(on) > 0 && len(off) > 0 {
+			ds = append(ds, doc.Diag(schema.SeverityWarning, pointer,
+				"%s is present at %s %s and absent (zero) at %s %s: interpolation fades it in and out, which no fit of a real material does; give it at every temperature or at none",
+				what, strings.Join(on, ", "), tu, strings.Join(off, ", "), tu))
+		}
+	}
+	for i, t := range c.Plasticity.Kinematic {
+		p := fmt.Sprintf("/plasticity/kinematic/%d", i)
+		switch {
+		case t.C != nil && t.Gamma != nil:
+			C, g := values(p+"/c", *t.C), values(p+"/gamma", *t.Gamma)
+			sat := make([]float64, len(C))
+			for k := range sat {
+				sat[k] = C[k] / g[k]
+			}
+			at := p + "/c"
+			if _, ok := c.Tabulated[at]; !ok {
+				at = p + "/gamma"
+			}
+			jumps(at, fmt.Sprintf("the saturation c/gamma of kinematic term %d", i), sat)
+		case t.PlasticModulus != nil:
+			presence(p+"/plastic_modulus", fmt.Sprintf("linear kinematic term %d", i), values(p+"/plastic_modulus", *t.PlasticModulus))
+		case t.TangentModulus != nil: // H = 0 exactly when Et = 0
+			presence(p+"/tangent_modulus", fmt.Sprintf("linear kinematic term %d", i), values(p+"/tangent_modulus", *t.TangentModulus))
+		}
+	}
+	if iso := c.Plasticity.Isotropic; iso != nil {
+		switch {
+		case iso.Q != nil:
+			q := values("/plasticity/isotropic/q", *iso.Q)
+			presence("/plasticity/isotropic/q", "Voce's isotropic hardening", q)
+			jumps("/plasticity/isotropic/q", "Voce's saturation q", q)
+		case iso.Modulus != nil:
+			presence("/plasticity/isotropic/modulus", "linear isotropic hardening", values("/plasticity/isotropic/modulus", *iso.Modulus))
+		}
+	}
+	if v := c.Verification; v != nil && len(v.References) > 0 {
+		ds = append(ds, doc.Diag(schema.SeverityError, "/verification/references",
+			"reference curves are not supported in a temperature-dependent card (a curve is measured at one temperature): verify them with the single-temperature card of that temperature"))
+	}
+	return ds
+}
+
+// copyCard returns a deep copy of c.
+func copyCard(c *schema.Card) (*schema.Card, error) {
+	t, err := toTree(c)
+	if err != nil {
+		return nil, err
+	}
+	return fromTree(t)
+}
+
+// toTree encodes c as a JSON-compatible tree (numbers as json.Number).
+func toTree(c *schema.Card) (any, error) {
+	b, err := json.Marshal(c)
+	if err != nil {
+		return nil, fmt.Errorf("encode card: %w", err)
+	}
+	dec := json.NewDecoder(bytes.NewReader(b))
+	dec.UseNumber()
+	var t any
+	if err := dec.Decode(&t); err != nil {
+		return nil, fmt.Errorf("encode card: %w", err)
+	}
+	return t, nil
+}
+
+// fromTree decodes a JSON-compatible tree into a card.
+func fromTree(t any) (*schema.Card, error) {
+	b, err := json.Marshal(t)
+	if err != nil {
+		return nil, fmt.Errorf("decode card: %w", err)
+	}
+	var c schema.Card
+	if err := json.Unmarshal(b, &c); err != nil {
+		return nil, fmt.Errorf("decode card: %w", err)
+	}
+	return &c, nil
+}
+
+// lookupTree returns the value at a JSON pointer of a tree.
+func lookupTree(v any, pointer string) (any, bool) {
+	if pointer == "" {
+		return v, true
+	}
+	for _, tok := range strings.Split(pointer[1:], "/") {
+		tok = strings.NewReplacer("~1", "/", "~0", "~").Replace(tok)
+		switch t := v.(type) {
+		case map[string]any:
+			x, ok := t[tok]
+			if !ok {
+				return nil, false
+			}
+			v = x
+		case []any:
+			i, err := strconv.Atoi(tok)
+			if err != nil || i < 0 || i >= len(t) {
+				return nil, false
+			}
+			v = t[i]
+		default:
+			return nil, false
+		}
+	}
+	return v, true
+}
+
+// setNumber sets the number at pointer in tree; false when nothing is
+// there.
+func setNumber(tree any, pointer string, v float64) bool {
+	i := strings.LastIndexByte(pointer, '/')
+	parent, ok := lookupTree(tree, pointer[:i])
+	if !ok {
+		return false
+	}
+	key := pointer[i+1:]
+	switch t := parent.(type) {
+	case map[string]any:
+		if _, ok := t[key]; !ok {
+			return false
+		}
+		t[key] = v
+		return true
+	case []any:
+		j, err := strconv.Atoi(key)
+		if err != nil || j < 0 || j >= len(t) {
+			return false
+		}
+		t[j] = v
+		return true
+	}
+	return false
+}
