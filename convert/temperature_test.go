@@ -14,11 +14,11 @@ import (
 // demoTable is the temperature-dependent demo card, normalized.
 func demoTable(t *testing.T) *schema.Card {
 	t.Helper()
-	data, err := os.ReadFile("../testdata/cards/canopy-steel-temps.yaml")
+	data, err := os.ReadFile("../testdata/temperature/canopy-steel-hot.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}
-	return prepared(t, "canopy-steel-temps.yaml", string(data))
+	return prepared(t, "canopy-steel-hot.yaml", string(data))
 }
 
 func prepared(t *testing.T, name, text string) *schema.Card {

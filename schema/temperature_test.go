@@ -12,11 +12,11 @@ import (
 // struct field holding the first value) and encodes back with the lists in
 // place; a card at one temperature has no Tabulated.
 func TestTemperatureCardRoundTrip(t *testing.T) {
-	data, err := os.ReadFile("../testdata/cards/canopy-steel-temps.yaml")
+	data, err := os.ReadFile("../testdata/temperature/canopy-steel-hot.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}
-	doc, err := Decode("canopy-steel-temps.yaml", data, nil)
+	doc, err := Decode("canopy-steel-hot.yaml", data, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
