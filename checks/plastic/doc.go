@@ -65,6 +65,17 @@
 // that wrap ErrNotConverged, ErrBeyondSaturation, ErrCanceled or
 // ErrInvalidInput. No result is a silent NaN.
 //
+// # Temperature
+//
+// A Table holds materials of one form at increasing temperatures (kelvin)
+// and interpolates every parameter linearly between neighbours, with no
+// extrapolation (ErrOutOfRange). StepT1D and RunT1D integrate uniaxial
+// anisothermal histories: the back stress carries Chaboche's (1989)
+// temperature-rate term (1/C_i)(dC_i/dT) alpha_i dT, integrated exactly as
+// the factor C_i(T1)/C_i(T0) at fixed plastic strain, then the increment
+// of the material at the end temperature; a history at one temperature is
+// Run1D's, bit for bit. See StepT1D.
+//
 // # References
 //
 //   - W. Prager, A new method of analyzing stresses and strains in
@@ -74,6 +85,9 @@
 //   - E. Voce, The relationship between stress and strain for homogeneous
 //     deformation, J. Inst. Metals 74, 1948.
 //   - J. Lemaitre and J.-L. Chaboche, Mechanics of Solid Materials, 1990.
+//   - J.-L. Chaboche, Constitutive equations for cyclic plasticity and
+//     cyclic viscoplasticity, Int. J. Plasticity 5, 1989 (the
+//     temperature-rate term of the back stress).
 //   - J.-L. Chaboche, A review of some plasticity and viscoplasticity
 //     constitutive theories, Int. J. Plasticity 24, 2008.
 //   - J. C. Simo and T. J. R. Hughes, Computational Inelasticity, 1998.
