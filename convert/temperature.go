@@ -10,6 +10,7 @@ import (
 	"strconv"
 	"strings"
 
+	"matgate/checks/plastic"
 	"matgate/schema"
 )
 
@@ -49,73 +50,103 @@ func Slice(c *schema.Card, k int) (*schema.Card, error) {
 	if k < 0 || k >= len(c.Temperatures) {
 		panic(fmt.Sprintf("convert.Slice: index %d of %d temperatures", k, len(c.Temperatures)))
 	}
-	return interpolate(c, k, k, 0)
+	return slice(c, k)
 }
 
 // At returns the canonical single-temperature card that the canonical
-// temperature-dependent card n holds at T kelvin: at a tabulated
-// temperature the tabulated values themselves, between two the linear
-// interpolation (1 - w) v_k + w v_k+1 with w = (T - T_k)/(T_k+1 - T_k),
-// exact at both ends, then normalized (verification defaults sized for that
-// temperature). Outside the range a *RangeError.
+// temperature-dependent card n holds at T kelvin, normalized (verification
+// defaults sized for that temperature): at a tabulated temperature the
+// tabulated values themselves (Slice), between two the parameters of the
+// integrator's interpolated material (plastic.Table.At: linear in
+// temperature, exact at both ends; the one copy of the rule). Outside the
+// range a *RangeError.
 func At(n *schema.Card, T float64) (*schema.Card, error) {
-	if !n.IsTemperatureDependent() {
-		return nil, fmt.Errorf("card %s is not temperature-dependent", n.ID)
-	}
-	if n.Units.Temperature != "K" || n.Units.Stress != "Pa" {
-		return nil, fmt.Errorf("card %s is not canonical (units %s, %s)", n.ID, n.Units.Stress, n.Units.Temperature)
-	}
-	ts := n.Temperatures
-	lo, hi := ts[0], ts[len(ts)-1]
-	if !(T >= lo && T <= hi) {
-		return nil, &RangeError{T: T, Lo: lo, Hi: hi}
-	}
-	k := sort.SearchFloat64s(ts, T) // first ts[k] >= T
-	var s *schema.Card
-	var err error
-	if ts[k] == T {
-		s, err = interpolate(n, k, k, 0)
-	} else {
-		s, err = interpolate(n, k-1, k, (T-ts[k-1])/(ts[k]-ts[k-1]))
-		if err == nil {
-			s.Temperature = ptr(round15(T))
-		}
-	}
+	tb, err := MaterialTable(n)
 	if err != nil {
 		return nil, err
+	}
+	ts := n.Temperatures
+	if !(T >= ts[0] && T <= ts[len(ts)-1]) {
+		return nil, &RangeError{T: T, Lo: ts[0], Hi: ts[len(ts)-1]}
+	}
+	k := sort.SearchFloat64s(ts, T) // first ts[k] >= T
+	s, err := slice(n, k)
+	if err != nil {
+		return nil, err
+	}
+	if ts[k] != T {
+		m, err := tb.At(T)
+		if err != nil {
+			return nil, err
+		}
+		setMaterial(s, &m)
+		s.Temperature = ptr(round15(T))
+		s.Derived = nil // derived values are not linear in temperature
 	}
 	return Normalize(s, nil)
 }
 
-// interpolate returns the card of one temperature (1 - w) card[j] + w
-// card[k] (w = 0: card[j] exactly, derived values included), with
-// temperature ts[j] when w = 0 and the interpolated one otherwise, no
-// derived block when w != 0, and no digest.
-func interpolate(c *schema.Card, j, k int, w float64) (*schema.Card, error) {
+// MaterialTable returns the integrator's table of the canonical
+// temperature-dependent card n: its material at each tabulated temperature.
+func MaterialTable(n *schema.Card) (plastic.Table, error) {
+	if !n.IsTemperatureDependent() {
+		return plastic.Table{}, fmt.Errorf("card %s is not temperature-dependent", n.ID)
+	}
+	if n.Units.Temperature != "K" || n.Units.Stress != "Pa" {
+		return plastic.Table{}, fmt.Errorf("card %s is not canonical (units %s, %s)", n.ID, n.Units.Stress, n.Units.Temperature)
+	}
+	ms := make([]plastic.Material, len(n.Temperatures))
+	for k := range n.Temperatures {
+		s, err := slice(n, k)
+		if err != nil {
+			return plastic.Table{}, err
+		}
+		if ms[k], err = Material(s); err != nil {
+			return plastic.Table{}, fmt.Errorf("at %g K: %w", n.Temperatures[k], err)
+		}
+	}
+	return plastic.NewTable(n.Temperatures, ms)
+}
+
+// setMaterial writes the parameters of m into the canonical card s of the
+// same form (linear terms as plastic_modulus).
+func setMaterial(s *schema.Card, m *plastic.Material) {
+	s.Elastic = schema.Elastic{YoungsModulus: m.E, PoissonRatio: m.Nu}
+	s.Plasticity.YieldStress = m.SigmaY
+	for i := range s.Plasticity.Kinematic {
+		t := &s.Plasticity.Kinematic[i]
+		if t.Model == schema.ModelLinear {
+			t.PlasticModulus = ptr(m.Terms[i].C)
+		} else {
+			t.C, t.Gamma = ptr(m.Terms[i].C), ptr(m.Terms[i].Gamma)
+		}
+	}
+	if iso := s.Plasticity.Isotropic; iso != nil {
+		switch iso.Model {
+		case schema.ModelLinear:
+			iso.Modulus = ptr(m.Iso.K)
+		case schema.ModelVoce:
+			iso.Q, iso.B = ptr(m.Iso.Q), ptr(m.Iso.B)
+		}
+	}
+}
+
+// slice is Slice for a temperature-dependent card: every list replaced by
+// its k-th value, derived values included.
+func slice(c *schema.Card, k int) (*schema.Card, error) {
 	s, err := copyCard(c)
 	if err != nil {
 		return nil, err
 	}
-	ts := c.Temperatures
+	s.Temperature = ptr(c.Temperatures[k])
 	s.Temperatures, s.Tabulated = nil, nil
-	s.Temperature = ptr((1-w)*ts[j] + w*ts[k])
 	s.Digest = ""
-	if w != 0 {
-		s.Derived = nil // derived values are not linear in temperature
-	}
 	tree, err := toTree(s)
 	if err != nil {
 		return nil, err
 	}
 	for p, list := range c.Tabulated {
-		if w != 0 && strings.HasPrefix(p, "/derived/") {
-			continue
-		}
-		v := list[j]
-		if w != 0 {
-			v = (1-w)*list[j] + w*list[k]
-		}
-		if !setNumber(tree, p, v) {
+		if !setNumber(tree, p, list[k]) {
 			return nil, fmt.Errorf("card %s: tabulated value %s has no place in the card", c.ID, p)
 		}
 	}
