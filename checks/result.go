@@ -58,6 +58,13 @@ type Case struct {
 	// Omitted lists the checks of this kind of case that do not apply to
 	// this card, each with why.
 	Omitted []Omission `json:"omitted,omitempty"`
+
+	// Temperature is the temperature of the case, kelvin, in the record of
+	// a temperature-dependent card (the midpoint for a case between two
+	// tabulated temperatures); nil for a card of one temperature and for
+	// anisothermal cases, whose Loading gives the range.
+	Temperature *float64 `json:"temperature,omitempty"`
+
 	// Measures are reported numbers that are not checks (RMS errors,
 	// counts), for the auditor.
 	Measures []Measure `json:"measures,omitempty"`

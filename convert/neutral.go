@@ -53,7 +53,28 @@ const (
 //     card's `cycles` at each of cyclicRows amplitudes from 1.5 yield strains
 //     up to the largest verification amplitude: strain_amplitude,
 //     plastic_strain_amplitude, stress_amplitude_pa, each from the last cycle.
+//
+// A temperature-dependent card has both tables at each tabulated
+// temperature T, named "monotonic-at-<T>K" and "cyclic-at-<T>K".
 func Tables(ctx context.Context, c *schema.Card) ([]Table, error) {
+	if c.IsTemperatureDependent() {
+		var out []Table
+		for _, T := range c.Temperatures {
+			ck, err := At(c, T)
+			if err != nil {
+				return nil, err
+			}
+			ts, err := Tables(ctx, ck)
+			if err != nil {
+				return nil, err
+			}
+			for i := range ts {
+				ts[i].Name += "-at-" + strconv.FormatFloat(T, 'g', -1, 64) + "K"
+			}
+			out = append(out, ts...)
+		}
+		return out, nil
+	}
 	m, err := Material(c)
 	if err != nil {
 		return nil, err

@@ -60,21 +60,22 @@ type Outputs struct {
 // not an error; errors are cancellation, a card the verification cannot
 // take (wrapping checks.ErrInvalidSpec, such as a reference too long to
 // replay) and internal failures.
+//
+// A temperature-dependent card is verified by checks.RunTable: the
+// standard cases on its card at each tabulated temperature (convert.At),
+// the interpolation between neighbours and the anisothermal cases. It has
+// no reference curves (convert refuses them), so nothing to diagnose.
 func Verify(ctx context.Context, c *schema.Card, tool checks.Tool, created time.Time) (*Outputs, error) {
-	spec, err := Spec(c)
+	var res *checks.Result
+	var diags []checks.Diagnosis
+	var err error
+	if c.IsTemperatureDependent() {
+		res, err = verifyTable(ctx, c)
+	} else {
+		res, diags, err = verifyOne(ctx, c)
+	}
 	if err != nil {
 		return nil, err
-	}
-	res, err := checks.Run(ctx, spec)
-	if err != nil {
-		return nil, fmt.Errorf("verify %s: %w", c.ID, err)
-	}
-	diags, err := checks.Diagnose(ctx, spec, StressUnits())
-	if err != nil {
-		return nil, fmt.Errorf("diagnose %s: %w", c.ID, err)
-	}
-	for _, d := range diags {
-		res.Findings = append(res.Findings, d.Finding())
 	}
 	canon, err := convert.Canonical(c)
 	if err != nil {
@@ -93,6 +94,52 @@ func Verify(ctx context.Context, c *schema.Card, tool checks.Tool, created time.
 		return nil, err
 	}
 	return &Outputs{Record: rec, Card: card, Tables: tables, Diagnoses: diags}, nil
+}
+
+// verifyOne runs the standard verification of a card of one temperature
+// and the diagnosis of its reference curves (as findings of the result).
+func verifyOne(ctx context.Context, c *schema.Card) (*checks.Result, []checks.Diagnosis, error) {
+	spec, err := Spec(c)
+	if err != nil {
+		return nil, nil, err
+	}
+	res, err := checks.Run(ctx, spec)
+	if err != nil {
+		return nil, nil, fmt.Errorf("verify %s: %w", c.ID, err)
+	}
+	diags, err := checks.Diagnose(ctx, spec, StressUnits())
+	if err != nil {
+		return nil, nil, fmt.Errorf("diagnose %s: %w", c.ID, err)
+	}
+	for _, d := range diags {
+		res.Findings = append(res.Findings, d.Finding())
+	}
+	return res, diags, nil
+}
+
+// verifyTable runs the verification of a temperature-dependent card.
+func verifyTable(ctx context.Context, c *schema.Card) (*checks.Result, error) {
+	tb, err := convert.MaterialTable(c)
+	if err != nil {
+		return nil, err
+	}
+	ts := checks.TableSpec{Table: tb}
+	for _, T := range c.Temperatures {
+		ck, err := convert.At(c, T)
+		if err != nil {
+			return nil, err
+		}
+		spec, err := Spec(ck)
+		if err != nil {
+			return nil, err
+		}
+		ts.Specs = append(ts.Specs, spec)
+	}
+	res, err := checks.RunTable(ctx, ts)
+	if err != nil {
+		return nil, fmt.Errorf("verify %s: %w", c.ID, err)
+	}
+	return res, nil
 }
 
 // SpecDiagnostic words a spec that the verification refused

@@ -1,0 +1,114 @@
+package worker
+
+import (
+	"context"
+	"encoding/json"
+	"os"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/google/go-cmp/cmp"
+
+	"matgate/checks"
+	"matgate/convert"
+	"matgate/schema"
+)
+
+func preparedCard(t *testing.T, name string, data []byte) *schema.Card {
+	t.Helper()
+	doc, err := schema.Decode(name, data, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	n, ds := convert.Prepare(doc, nil)
+	if ds.HasErrors() {
+		t.Fatalf("%s: %v", name, ds)
+	}
+	return n
+}
+
+// The temperature-dependent demo card verifies (its record passes), and its
+// cases at each tabulated temperature are, field for field, those of the
+// single-temperature card written by hand with that temperature's values
+// (here 200 C), with the temperature's prefix and Temperature added.
+func TestTemperatureCardVerify(t *testing.T) {
+	data, err := os.ReadFile("../testdata/temperature/canopy-steel-hot.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	table := preparedCard(t, "canopy-steel-hot.yaml", data)
+	created := time.Date(2026, 1, 1, 0, 0, 0, 0, time.UTC)
+	out, err := Verify(context.Background(), table, checks.Tool{Version: "test"}, created)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec := out.Record
+	if rec.Verdict != "pass" {
+		for _, c := range rec.Cases {
+			for _, ch := range c.Checks {
+				if !ch.Pass {
+					t.Errorf("%s: %s: %g (reference %g, tolerance %g)", c.Name, ch.Name, ch.Value, ch.Reference, ch.Tolerance)
+				}
+			}
+		}
+		t.Fatalf("verdict %s", rec.Verdict)
+	}
+
+	single := preparedCard(t, "at-200.yaml", []byte(`format: matgate.card/1
+id: demo-canopy-steel-hot
+revision: 1
+title: Canopy frame structural steel, 20 to 400 C, Chaboche term, Prager term and Voce (demo data)
+source: Invented for the matgate demo (Lakeside tram depot canopy scenario); not measured data.
+units: {stress: MPa, temperature: C}
+temperature: 200
+elastic: {youngs_modulus: 195000, poisson_ratio: 0.3}
+plasticity:
+  yield_stress: 305
+  kinematic:
+    - {model: armstrong_frederick, c: 35000, gamma: 260}
+    - {model: linear, plastic_modulus: 1350}
+  isotropic: {model: voce, q: 25, b: 8}
+`))
+	one, err := Verify(context.Background(), single, checks.Tool{Version: "test"}, created)
+	if err != nil {
+		t.Fatal(err)
+	}
+	prefix := checks.TemperatureName(473.15) + "/"
+	var got []checks.Case
+	for _, c := range rec.Cases {
+		if strings.HasPrefix(c.Name, prefix) {
+			if c.Temperature == nil || *c.Temperature != 473.15 {
+				t.Errorf("%s: temperature %v", c.Name, c.Temperature)
+			}
+			c.Name = strings.TrimPrefix(c.Name, prefix)
+			c.Temperature = nil
+			got = append(got, c)
+		}
+	}
+	// Compare the cases as the record holds them (their JSON).
+	enc := func(v any) string {
+		b, err := json.Marshal(v)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return string(b)
+	}
+	if len(got) == 0 || enc(got) != enc(one.Record.Cases) {
+		t.Errorf("cases at 473.15 K differ from the single-temperature card's:\n%s", cmp.Diff(enc(one.Record.Cases), enc(got)))
+	}
+	var names []string
+	for _, c := range rec.Cases {
+		if !strings.HasPrefix(c.Name, "at-") {
+			names = append(names, c.Name)
+		}
+	}
+	want := []string{"between-293.15K-373.15K", "between-373.15K-473.15K", "between-473.15K-573.15K", "between-573.15K-673.15K",
+		"anisothermal-excursion", "anisothermal-isothermal", "thermomechanical-in-phase", "thermomechanical-out-of-phase"}
+	if d := cmp.Diff(want, names); d != "" {
+		t.Errorf("cases beyond the tabulated temperatures (-want +got)\n%s", d)
+	}
+	if len(out.Tables) != 10 {
+		t.Errorf("%d tables, want 2 at each of 5 temperatures", len(out.Tables))
+	}
+}
