@@ -2,8 +2,10 @@ package main
 
 import (
 	"bufio"
+	"context"
 	"errors"
 	"fmt"
+	"math"
 	"os"
 	"strconv"
 	"strings"
@@ -12,12 +14,13 @@ import (
 
 	"matgate/checks/plastic"
 	"matgate/convert"
+	"matgate/schema"
 )
 
 func newSimulateCmd(e *env) *cobra.Command {
 	var (
 		pathFile, mode, algorithm string
-		increment                 float64
+		increment, tempIncrement  float64
 	)
 	c := &cobra.Command{
 		Use:   "simulate CARD --path PATH.csv",
@@ -33,7 +36,18 @@ engineering shear strain of a thin-walled tube, the other stresses zero).
 Each row is a target reached by increments no larger than --increment
 (default 1e-5 for strain, yield_stress/200 for stress). 1D uses the exact
 algorithm by default; 3D --mode uses the 3D radial return under mixed
-control (uniaxial stress, or tension-torsion).`,
+control (uniaxial stress, or tension-torsion).
+
+A temperature-dependent card (one with temperatures) takes a second
+column, temperature, in the card's temperature unit: strain,temperature or
+stress,temperature. The history starts from the virgin state at the first
+row's temperature; within a row the temperature moves linearly with the
+control quantity, in increments of at most --temperature-increment kelvin.
+The back stress carries the temperature-rate term of Chaboche (1989),
+the parameters are interpolated linearly between the card's temperatures
+and never extrapolated (a row outside the range is an error), and the
+strain is mechanical (the card has no thermal expansion). The output has a
+temperature column. 1d only.`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if pathFile == "" {
@@ -62,21 +76,30 @@ control (uniaxial stress, or tension-torsion).`,
 				return &exitError{code: exitInvalid}
 			}
 			f, _ := convert.StressFactor(l.doc.Card.Units.Stress)
-			m, err := convert.Material(l.card)
-			if err != nil {
-				return &exitError{code: exitInternal, err: err}
-			}
 			data, err := os.ReadFile(pathFile)
 			if err != nil {
 				return invalid("--path: %v", err)
 			}
-			p, err := readLoadPath(pathFile, data, mode)
+			p, err := readLoadPath(pathFile, data, mode, l.card.IsTemperatureDependent())
 			if err != nil {
 				return invalid("%v", err)
 			}
 			w := bufio.NewWriter(e.stdout)
 			defer w.Flush()
 			num := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+			if l.card.IsTemperatureDependent() {
+				if mode != "1d" {
+					return &usageError{fmt.Errorf("--mode %s: a temperature-dependent card is simulated in 1d only (the anisothermal integrator is uniaxial)", mode)}
+				}
+				if tempIncrement <= 0 {
+					return &usageError{fmt.Errorf("--temperature-increment %g: must be positive", tempIncrement)}
+				}
+				return simulateAnisothermal(cmd.Context(), w, l.doc.Card, l.card, p, increment, tempIncrement, &set, f)
+			}
+			m, err := convert.Material(l.card)
+			if err != nil {
+				return &exitError{code: exitInternal, err: err}
+			}
 			if mode == "1d" {
 				path := plastic.Path1D{Control: plastic.StrainControl, MaxIncrement: increment}
 				for _, r := range p.rows {
@@ -144,6 +167,7 @@ control (uniaxial stress, or tension-torsion).`,
 	c.Flags().Float64Var(&increment, "increment", 0, "largest increment of the control quantity (0: 1e-5 strain, yield_stress/200 stress)")
 	c.Flags().StringVar(&mode, "mode", "1d", "1d (uniaxial stress, exact) or 3d (J2 radial return, mixed control)")
 	c.Flags().StringVar(&algorithm, "algorithm", "exact", "return mapping: exact or backward-euler")
+	c.Flags().Float64Var(&tempIncrement, "temperature-increment", 1, "largest temperature increment, kelvin, of a temperature-dependent card's history")
 	return c
 }
 
@@ -154,8 +178,9 @@ type loadPath struct {
 	rows    [][]float64
 }
 
-// readLoadPath parses a load history: the header names the control column.
-func readLoadPath(name string, data []byte, mode string) (*loadPath, error) {
+// readLoadPath parses a load history: the header names the control column
+// and, for a temperature-dependent card (tabled), the temperature column.
+func readLoadPath(name string, data []byte, mode string, tabled bool) (*loadPath, error) {
 	first, _, _ := strings.Cut(strings.TrimPrefix(string(data), "\xef\xbb\xbf"), "\n")
 	head := strings.Split(strings.TrimSpace(first), ",")
 	for i := range head {
@@ -166,10 +191,18 @@ func readLoadPath(name string, data []byte, mode string) (*loadPath, error) {
 	if mode == "3d" {
 		allowed = map[string]bool{"strain": true, "strain,shear_strain": true}
 	}
+	if tabled {
+		allowed = map[string]bool{"strain,temperature": true, "stress,temperature": true}
+	}
 	if !allowed[h] {
 		want := "strain or stress"
-		if mode == "3d" {
+		switch {
+		case tabled:
+			want = "strain,temperature or stress,temperature (the card is temperature-dependent: each row needs its temperature, in the card's unit)"
+		case mode == "3d":
 			want = "strain, or strain,shear_strain (3d mode has no stress control)"
+		case strings.Contains(h, "temperature"):
+			want = "strain or stress (a temperature column needs a card with temperatures; this card holds one temperature)"
 		}
 		return nil, fmt.Errorf("%s:1: header %q: the header names one control column: %s", name, h, want)
 	}
@@ -191,4 +224,78 @@ func simulateError(err error, p *loadPath) error {
 		return invalid("%s:%d: %s: %v", p.name, pe.Segment+2, p.columns[0], err)
 	}
 	return &exitError{code: exitInternal, err: err}
+}
+
+// simulateAnisothermal drives a temperature-dependent card along a history
+// of (strain or stress, temperature) rows and prints the response with the
+// temperature, in the card's units; a row the integrator cannot reach (a
+// temperature outside the card's range, no convergence) is located at its
+// line.
+//
+// n0 is the card as written (its temperatures in its unit), n the
+// canonical card.
+func simulateAnisothermal(ctx context.Context, w *bufio.Writer, n0, n *schema.Card, p *loadPath, increment, dT float64, set *plastic.Settings, f float64) error {
+	units := n0.Units
+	tb, err := convert.MaterialTable(n)
+	if err != nil {
+		return &exitError{code: exitInternal, err: err}
+	}
+	num := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+	control := plastic.StrainControl
+	if p.columns[0] == "stress" {
+		control = plastic.StressControl
+		sy := math.Inf(1)
+		for _, m := range tb.M {
+			sy = math.Min(sy, m.SigmaY)
+		}
+		if increment == 0 {
+			increment = sy / 200
+		} else {
+			increment *= f
+		}
+	} else if increment == 0 {
+		increment = 1e-5
+	}
+	pts := make([]plastic.PointT, len(p.rows))
+	for i, r := range p.rows {
+		T, err := convert.KelvinFrom(r[1], units.Temperature)
+		if err != nil {
+			return invalid("%s:%d: temperature: %v", p.name, i+2, err)
+		}
+		if lo, hi := tb.T[0], tb.T[len(tb.T)-1]; !(T >= lo && T <= hi) {
+			return invalid("%s:%d: temperature %s %s is outside the card's range %s to %s %s: matgate interpolates between the card's temperatures and does not extrapolate", p.name, i+2, num(r[1]), units.Temperature, num(n0.Temperatures[0]), num(n0.Temperatures[len(n0.Temperatures)-1]), units.Temperature)
+		}
+		v := r[0]
+		if control == plastic.StressControl {
+			v *= f
+		}
+		pts[i] = plastic.PointT{Value: v, T: T}
+	}
+	fromK := func(T float64) float64 {
+		switch units.Temperature {
+		case "C":
+			return T - 273.15
+		case "F":
+			return T*1.8 - 459.67
+		}
+		return T
+	}
+	fmt.Fprintln(w, "step,strain,stress,plastic_strain,back_stress,accumulated_plastic_strain,temperature")
+	step := 0
+	row := func(s *plastic.StateT1D) {
+		fmt.Fprintln(w, strings.Join([]string{strconv.Itoa(step), num(s.Eps), num(s.Sigma / f), num(s.EpsP), num(s.BackStress(tb.M[0].N) / f), num(s.P), num(fromK(s.T))}, ","))
+		step++
+	}
+	s := plastic.StateT1D{T: pts[0].T}
+	row(&s)
+	for i, pt := range pts {
+		if _, err := tb.RunT1D(ctx, &s, control, increment, dT, []plastic.PointT{pt}, set, row); err != nil {
+			w.Flush()
+			if errors.Is(err, plastic.ErrCanceled) {
+				return &exitError{code: exitInternal, err: err}
+			}
+			return invalid("%s:%d: %s %s at temperature %s %s: %v", p.name, i+2, p.columns[0], num(p.rows[i][0]), num(p.rows[i][1]), units.Temperature, err)
+		}
+	}
+	return nil
 }
