@@ -6,6 +6,7 @@ import (
 	"math"
 
 	"matgate/checks"
+	"matgate/convert"
 	"matgate/schema"
 )
 
@@ -23,8 +24,69 @@ type Comparison struct {
 }
 
 // Compare computes the Comparison of two canonical cards (as
-// convert.Normalize writes them).
+// convert.Normalize writes them). When either is temperature-dependent the
+// two are compared at each temperature of the older one (its tabulated
+// temperatures, or its one temperature), each change named "at <T> K: ...";
+// a temperature outside the other card's range is an error. The responses
+// kept for plots are those at the first temperature.
 func Compare(ctx context.Context, old, new *schema.Card) (*Comparison, error) {
+	if !old.IsTemperatureDependent() && !new.IsTemperatureDependent() {
+		return compareAt(ctx, old, new)
+	}
+	temps := old.Temperatures
+	if !old.IsTemperatureDependent() {
+		if old.Temperature == nil {
+			return nil, fmt.Errorf("compare %s r%d with r%d: the older revision states no temperature and the newer is temperature-dependent: nothing to compare at", old.ID, old.Revision, new.Revision)
+		}
+		temps = []float64{*old.Temperature}
+	}
+	var out *Comparison
+	for _, T := range temps {
+		oc, err := cardAt(old, T)
+		if err != nil {
+			return nil, err
+		}
+		nc, err := cardAt(new, T)
+		if err != nil {
+			return nil, err
+		}
+		c, err := compareAt(ctx, oc, nc)
+		if err != nil {
+			return nil, err
+		}
+		at := fmt.Sprintf("at %g K: ", T)
+		for i := range c.Changes {
+			c.Changes[i].Name = at + c.Changes[i].Name
+		}
+		if out == nil {
+			out = c
+			out.Old.Digest, out.New.Digest = old.Digest, new.Digest
+			out.Loads = at + c.Loads
+			continue
+		}
+		out.Changes = append(out.Changes, c.Changes...)
+		out.Loads += "; " + at + c.Loads
+	}
+	return out, nil
+}
+
+// cardAt is the canonical card of one temperature that c holds at T kelvin.
+func cardAt(c *schema.Card, T float64) (*schema.Card, error) {
+	if c.IsTemperatureDependent() {
+		n, err := convert.At(c, T)
+		if err != nil {
+			return nil, fmt.Errorf("%s r%d: %w", c.ID, c.Revision, err)
+		}
+		return n, nil
+	}
+	if c.Temperature == nil || *c.Temperature != T {
+		return nil, fmt.Errorf("%s r%d holds one temperature, not %g K: nothing to compare at", c.ID, c.Revision, T)
+	}
+	return c, nil
+}
+
+// compareAt is Compare for two cards of one temperature.
+func compareAt(ctx context.Context, old, new *schema.Card) (*Comparison, error) {
 	os, err := Spec(old)
 	if err != nil {
 		return nil, err

@@ -13,6 +13,7 @@ import (
 	"matgate/checks"
 	"matgate/convert"
 	"matgate/schema"
+	"matgate/worker/report"
 )
 
 func preparedCard(t *testing.T, name string, data []byte) *schema.Card {
@@ -108,7 +109,51 @@ plasticity:
 	if d := cmp.Diff(want, names); d != "" {
 		t.Errorf("cases beyond the tabulated temperatures (-want +got)\n%s", d)
 	}
+	html, err := report.Render(rec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, w := range []string{"Response at each temperature", "monotonic tension at each temperature", "(monotonic-tension, at 673.15 K)", "(temperature-interpolation, at 423.15 K)"} {
+		if !strings.Contains(string(html), w) {
+			t.Errorf("the report lacks %q", w)
+		}
+	}
 	if len(out.Tables) != 10 {
 		t.Errorf("%d tables, want 2 at each of 5 temperatures", len(out.Tables))
+	}
+}
+
+// Two revisions of a temperature-dependent card compare at each of the
+// older one's temperatures: a change of the 400 C yield stress changes
+// responses at 673.15 K only.
+func TestTemperatureCardCompare(t *testing.T) {
+	data, err := os.ReadFile("../testdata/temperature/canopy-steel-hot.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	old := preparedCard(t, "r1.yaml", data)
+	changed := strings.Replace(strings.Replace(string(data), "revision: 1", "revision: 2", 1), "[355, 335, 305, 275, 245]", "[355, 335, 305, 275, 230]", 1)
+	new := preparedCard(t, "r2.yaml", []byte(changed))
+	c, err := Compare(context.Background(), old, new)
+	if err != nil {
+		t.Fatal(err)
+	}
+	seen := map[string]bool{}
+	for _, ch := range c.Changes {
+		T, _, ok := strings.Cut(ch.Name, ": ")
+		if !ok || !strings.HasPrefix(T, "at ") {
+			t.Fatalf("change %q is not named by its temperature", ch.Name)
+		}
+		seen[T] = true
+		moved := ch.Abs != nil && *ch.Abs != 0
+		if T != "at 673.15 K" && moved {
+			t.Errorf("%s changed by %g, but only the 400 C yield stress changed", ch.Name, *ch.Abs)
+		}
+	}
+	if len(seen) != 5 {
+		t.Errorf("compared at %d temperatures, want 5", len(seen))
+	}
+	if len(c.Exceeding(1e-9)) == 0 {
+		t.Error("no change at 673.15 K")
 	}
 }

@@ -38,9 +38,14 @@ func Render(rec *checks.Record) ([]byte, error) {
 		Findings []checks.Finding
 	}
 	view := struct {
-		R     *checks.Record
-		Cases []caseView
+		R            *checks.Record
+		Cases        []caseView
+		Temperatures template.HTML // the response at each temperature; "" for one
 	}{R: rec}
+	var err error
+	if view.Temperatures, err = temperaturePlot(rec); err != nil {
+		return nil, fmt.Errorf("plot at each temperature: %w", err)
+	}
 	for _, c := range rec.Cases {
 		cv := caseView{Case: c}
 		for _, f := range rec.Findings {
@@ -175,8 +180,11 @@ tr.broke td{background:#fbeae3}.small{color:#555;font-size:.85em}
 <tr><th>created</th><td>{{.R.Created}}</td></tr>
 <tr><th>profile</th><td>{{.R.Settings.Profile}}, algorithm {{.R.Settings.Algorithm}}</td></tr>
 </table>
+{{with .Temperatures}}<h2>Response at each temperature</h2>
+<div>{{.}}</div>
+<p class="small">The card is temperature-dependent: its standard cases run at each tabulated temperature (named at-&lt;T&gt;K/...), the card interpolated between neighbours is checked against them (between-...), and the anisothermal cases follow.</p>{{end}}
 {{range .Cases}}
-<h2>{{.Name}} <span class="small">({{.Kind}})</span></h2>
+<h2>{{.Name}} <span class="small">({{.Kind}}{{with .Temperature}}, at {{g .}} K{{end}})</span></h2>
 <p>{{.Loading}}</p>
 {{if .Skipped}}<p><em>Not run: {{.Skipped}}</em></p>{{else}}
 {{range .Plots}}<div>{{.}}</div>{{end}}{{if .Plots}}<p class="small">The plot shows every increment of a short run, and the first and last 200 increments of a long one (the lines break where increments are left out).</p>{{end}}
