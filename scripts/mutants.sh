@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # mutants.sh: shows that `matgate verify` on the demo cards fails wrong
 # models. Each mutant is a small patch that puts a known model error into a
-# copy of the repository; the copy is built and verified on testdata/cards.
+# copy of the repository; the copy is built and verified on testdata/cards
+# and the temperature-dependent demo card in testdata/temperature.
 # A mutant is killed when verify exits 1 (a failed verification); exit 0
 # (every card passes), 3 (internal error, no verdict) or any other code
 # means it survived; so does a verify that runs longer than MUTANT_TIMEOUT
@@ -136,6 +137,21 @@ p_3d-yield-without-three-halves() {
 	m = &mm'
 }
 
+mutant temperature-rate-term-dropped "anisothermal 1D step: the back stress without Chaboche's temperature-rate term (alpha_i kept when C_i changes with temperature)"
+p_temperature-rate-term-dropped() {
+  sub "$1" checks/plastic/anisothermal.go 's.Alpha[i] *= m1.Terms[i].C / m0.Terms[i].C' 's.Alpha[i] *= 1 + 0*m0.Terms[i].C'
+}
+
+mutant temperature-interpolation-extrapolates "temperature table: every parameter between neighbours as (1 + w) p_k - w p_k+1 (extrapolated away from the upper neighbour) instead of (1 - w) p_k + w p_k+1"
+p_temperature-interpolation-extrapolates() {
+  sub "$1" checks/plastic/anisothermal.go 'return (1-w)*x + w*y' 'return (1+w)*x - w*y'
+}
+
+mutant temperature-step-recomputes-stress "anisothermal 1D step: an increment without a temperature change also recomputes the stress as E (eps - eps_p) instead of being the isothermal increment"
+p_temperature-step-recomputes-stress() {
+  sub "$1" checks/plastic/anisothermal.go 'if err != nil || T1 == src.T {' 'if err != nil {'
+}
+
 if [ $# -gt 0 ]; then
   for n in "$@"; do
     [ -n "${what[$n]+x}" ] || { echo "mutants.sh: no mutant $n (have: ${names[*]})" >&2; exit 2; }
@@ -149,7 +165,7 @@ run() {
   (cd "$work/src" && go build -o "$work/matgate" ./cmd/matgate) || { echo "mutants.sh: $1: build failed" >&2; exit 2; }
   rm -rf "$work/out"
   set +e
-  (cd "$work/src" && timeout -k 10 "${MUTANT_TIMEOUT:-300}" "$work/matgate" verify --out "$work/out" testdata/cards) >"$work/log" 2>&1
+  (cd "$work/src" && timeout -k 10 "${MUTANT_TIMEOUT:-300}" "$work/matgate" verify --out "$work/out" testdata/cards testdata/temperature) >"$work/log" 2>&1
   code=$?
   if [ "$code" -eq 124 ]; then
     echo "timed out after ${MUTANT_TIMEOUT:-300} s" >>"$work/log"

@@ -18,8 +18,9 @@ import (
 )
 
 var (
-	nCards = flag.Int("cardspace.n", 60, "cards of the random card space to verify")
-	seed   = flag.Uint64("cardspace.seed", 20261202, "seed of the card space")
+	nCards  = flag.Int("cardspace.n", 60, "cards of the random card space to verify")
+	nTables = flag.Int("cardspace.tables", 6, "temperature-dependent cards of the random card space to verify")
+	seed    = flag.Uint64("cardspace.seed", 20261202, "seed of the card space")
 )
 
 // outcome is what verifying one card gave.
@@ -31,13 +32,17 @@ type outcome struct {
 // verifyCard runs the whole path of `matgate verify` on card i (decode,
 // plausibility, normalize, verify) and says what went wrong, if anything.
 func verifyCard(ctx context.Context, i int) (problem string) {
+	return verifyData(ctx, fmt.Sprintf("card-%d.yaml", i), cardspace.Card(*seed, i))
+}
+
+// verifyData is verifyCard for the card in data.
+func verifyData(ctx context.Context, name string, data []byte) (problem string) {
 	defer func() {
 		if r := recover(); r != nil {
 			problem = fmt.Sprintf("panic: %v", r)
 		}
 	}()
-	data := cardspace.Card(*seed, i)
-	doc, err := schema.Decode(fmt.Sprintf("card-%d.yaml", i), data, nil)
+	doc, err := schema.Decode(name, data, nil)
 	if err != nil {
 		return fmt.Sprintf("schema: %v", err)
 	}
@@ -108,4 +113,26 @@ func TestCardSpace(t *testing.T) {
 		}
 	}
 	t.Logf("%d cards, %d wrong verdicts", n, bad)
+}
+
+// TestTableSpace verifies random temperature-dependent cards
+// (cardspace.Table: card i's parameters softened over 2 to 4 temperatures)
+// through the whole path of matgate verify: every one must pass, the
+// anisothermal and interpolation cases included. Run more with
+// -cardspace.tables 500.
+func TestTableSpace(t *testing.T) {
+	n := *nTables
+	if testing.Short() {
+		n = min(n, 2)
+	}
+	ctx := context.Background()
+	bad := 0
+	for i := 0; i < n; i++ {
+		data := cardspace.Table(*seed, i)
+		if p := verifyData(ctx, fmt.Sprintf("table-%d.yaml", i), data); p != "" {
+			bad++
+			t.Errorf("table card %d (seed %d):\n%s  %s", i, *seed, data, p)
+		}
+	}
+	t.Logf("%d temperature-dependent cards, %d wrong verdicts", n, bad)
 }
