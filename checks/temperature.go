@@ -305,9 +305,7 @@ func excursion(ctx context.Context, tb *plastic.Table, specs []Spec) (Case, erro
 	if _, err := tb.RunT1D(ctx, &s, plastic.StrainControl, v.hEps, dT, []plastic.PointT{{Value: s.Eps, T: T1}, {Value: s.Eps, T: T0}}, set, visit); err != nil {
 		return c, caseErr(c.Name, err)
 	}
-	c.Series = downsample(hist, maxSeries, func(st *plastic.StateT1D) Sample {
-		return Sample{Strain: st.Eps, Stress: st.Sigma, PlasticStrain: st.EpsP, BackStress: st.BackStress(m0.N), P: st.P}
-	})
+	c.Series = seriesT(hist, m0.N)
 	if aMax == 0 {
 		c.omit("back stress on the closed form", "the card has no kinematic hardening: no back stress to follow")
 		c.omit("back at the start", "the card has no kinematic hardening")
@@ -506,9 +504,7 @@ func thermoMechanical(phase float64) func(context.Context, *plastic.Table, []Spe
 		if err != nil {
 			return c, caseErr(c.Name, err)
 		}
-		c.Series = downsample(hist, maxSeries, func(st *plastic.StateT1D) Sample {
-			return Sample{Strain: st.Eps, Stress: st.Sigma, PlasticStrain: st.EpsP, BackStress: st.BackStress(tb.M[0].N), P: st.P}
-		})
+		c.Series = seriesT(hist, tb.M[0].N)
 		if plasticSteps == 0 {
 			c.omit("yield consistency", "no plastic increment on this path")
 		} else {
@@ -550,4 +546,12 @@ func thermoMechanical(phase float64) func(context.Context, *plastic.Table, []Spe
 		c.measure("increments", float64(n), "")
 		return c, nil
 	}
+}
+
+// seriesT is the plotted series of an anisothermal history of a material
+// with n back-stress terms.
+func seriesT(hist []plastic.StateT1D, n int) []Sample {
+	return downsample(hist, maxSeries, func(st *plastic.StateT1D) Sample {
+		return Sample{Strain: st.Eps, Stress: st.Sigma, PlasticStrain: st.EpsP, BackStress: st.BackStress(n), P: st.P}
+	})
 }

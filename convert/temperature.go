@@ -146,7 +146,7 @@ func slice(c *schema.Card, k int) (*schema.Card, error) {
 		return nil, err
 	}
 	for p, list := range c.Tabulated {
-		if !setNumber(tree, p, list[k]) {
+		if !schema.Set(tree, p, list[k]) {
 			return nil, fmt.Errorf("card %s: tabulated value %s has no place in the card", c.ID, p)
 		}
 	}
@@ -168,13 +168,14 @@ func merge(cards []*schema.Card, temps []float64) (*schema.Card, error) {
 		}
 		trees[i] = t
 	}
+	escape := strings.NewReplacer("~", "~0", "/", "~1")
 	var walk func(v any, pointer string) (any, bool)
 	walk = func(v any, pointer string) (any, bool) {
 		switch t := v.(type) {
 		case map[string]any:
 			out := map[string]any{}
 			for key, x := range t {
-				p := pointer + "/" + strings.NewReplacer("~", "~0", "/", "~1").Replace(key)
+				p := pointer + "/" + escape.Replace(key)
 				if y, keep := walk(x, p); keep {
 					out[key] = y
 				}
@@ -195,7 +196,7 @@ func merge(cards []*schema.Card, temps []float64) (*schema.Card, error) {
 			vals := make([]any, len(trees))
 			same := true
 			for i, tr := range trees {
-				x, ok := lookupTree(tr, pointer)
+				x, ok := schema.Lookup(tr, pointer)
 				if !ok {
 					return nil, false
 				}
@@ -482,58 +483,4 @@ func fromTree(t any) (*schema.Card, error) {
 		return nil, fmt.Errorf("decode card: %w", err)
 	}
 	return &c, nil
-}
-
-// lookupTree returns the value at a JSON pointer of a tree.
-func lookupTree(v any, pointer string) (any, bool) {
-	if pointer == "" {
-		return v, true
-	}
-	for _, tok := range strings.Split(pointer[1:], "/") {
-		tok = strings.NewReplacer("~1", "/", "~0", "~").Replace(tok)
-		switch t := v.(type) {
-		case map[string]any:
-			x, ok := t[tok]
-			if !ok {
-				return nil, false
-			}
-			v = x
-		case []any:
-			i, err := strconv.Atoi(tok)
-			if err != nil || i < 0 || i >= len(t) {
-				return nil, false
-			}
-			v = t[i]
-		default:
-			return nil, false
-		}
-	}
-	return v, true
-}
-
-// setNumber sets the number at pointer in tree; false when nothing is
-// there.
-func setNumber(tree any, pointer string, v float64) bool {
-	i := strings.LastIndexByte(pointer, '/')
-	parent, ok := lookupTree(tree, pointer[:i])
-	if !ok {
-		return false
-	}
-	key := pointer[i+1:]
-	switch t := parent.(type) {
-	case map[string]any:
-		if _, ok := t[key]; !ok {
-			return false
-		}
-		t[key] = v
-		return true
-	case []any:
-		j, err := strconv.Atoi(key)
-		if err != nil || j < 0 || j >= len(t) {
-			return false
-		}
-		t[j] = v
-		return true
-	}
-	return false
 }

@@ -52,7 +52,11 @@ func (c Card) MarshalJSON() ([]byte, error) {
 		return nil, err
 	}
 	for p, list := range c.Tabulated {
-		if !setAt(tree, p, list) {
+		vals := make([]any, len(list))
+		for i, x := range list {
+			vals[i] = x
+		}
+		if !Set(tree, p, vals) {
 			return nil, fmt.Errorf("encode card: tabulated value %s has no place in the card", p)
 		}
 	}
@@ -138,31 +142,34 @@ func numbers(list []any) ([]float64, bool) {
 	return out, true
 }
 
-// setAt replaces the value at pointer in tree by list; false when the
-// pointer names nothing.
-func setAt(tree any, pointer string, list []float64) bool {
+// Lookup returns the value at a JSON pointer (RFC 6901) of a
+// JSON-compatible tree.
+func Lookup(tree any, pointer string) (any, bool) { return lookup(tree, pointer) }
+
+// Set replaces the value at a JSON pointer of a JSON-compatible tree by v;
+// false when the pointer names nothing there.
+func Set(tree any, pointer string, v any) bool {
+	if pointer == "" {
+		return false
+	}
 	parent, ok := lookup(tree, parentPointer(pointer))
 	if !ok {
 		return false
 	}
 	key := pointerUnescaper.Replace(pointer[strings.LastIndexByte(pointer, '/')+1:])
-	vals := make([]any, len(list))
-	for i, x := range list {
-		vals[i] = x
-	}
 	switch t := parent.(type) {
 	case map[string]any:
 		if _, ok := t[key]; !ok {
 			return false
 		}
-		t[key] = vals
+		t[key] = v
 		return true
 	case []any:
 		i, err := strconv.Atoi(key)
-		if err != nil || i < 0 || i >= len(t) {
+		if err != nil || i < 0 || i >= len(t) || strconv.Itoa(i) != key {
 			return false
 		}
-		t[i] = vals
+		t[i] = v
 		return true
 	}
 	return false

@@ -32,7 +32,8 @@ func preparedCard(t *testing.T, name string, data []byte) *schema.Card {
 // The temperature-dependent demo card verifies (its record passes), and its
 // cases at each tabulated temperature are, field for field, those of the
 // single-temperature card written by hand with that temperature's values
-// (here 200 C), with the temperature's prefix and Temperature added.
+// (testdata/temperature/canopy-steel-hot-200c.yaml), with the temperature's
+// prefix and Temperature added.
 func TestTemperatureCardVerify(t *testing.T) {
 	data, err := os.ReadFile("../testdata/temperature/canopy-steel-hot.yaml")
 	if err != nil {
@@ -56,21 +57,11 @@ func TestTemperatureCardVerify(t *testing.T) {
 		t.Fatalf("verdict %s", rec.Verdict)
 	}
 
-	single := preparedCard(t, "at-200.yaml", []byte(`format: matgate.card/1
-id: demo-canopy-steel-hot
-revision: 1
-title: Canopy frame structural steel, 20 to 400 C, Chaboche term, Prager term and Voce (demo data)
-source: Invented for the matgate demo (Lakeside tram depot canopy scenario); not measured data.
-units: {stress: MPa, temperature: C}
-temperature: 200
-elastic: {youngs_modulus: 195000, poisson_ratio: 0.3}
-plasticity:
-  yield_stress: 305
-  kinematic:
-    - {model: armstrong_frederick, c: 35000, gamma: 260}
-    - {model: linear, plastic_modulus: 1350}
-  isotropic: {model: voce, q: 25, b: 8}
-`))
+	data, err = os.ReadFile("../testdata/temperature/canopy-steel-hot-200c.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	single := preparedCard(t, "canopy-steel-hot-200c.yaml", data)
 	one, err := Verify(context.Background(), single, checks.Tool{Version: "test"}, created)
 	if err != nil {
 		t.Fatal(err)

@@ -16,22 +16,7 @@ const hotCard = "../../testdata/temperature/canopy-steel-hot.yaml"
 // card's range and a history without temperatures are located errors.
 func TestSimulateTemperatureCard(t *testing.T) {
 	dir := t.TempDir()
-	single := filepath.Join(dir, "at-200.yaml")
-	os.WriteFile(single, []byte(`format: matgate.card/1
-id: demo-canopy-steel-hot
-revision: 1
-title: Canopy frame structural steel at 200 C (demo data)
-source: Invented for the matgate demo (Lakeside tram depot canopy scenario); not measured data.
-units: {stress: MPa, temperature: C}
-temperature: 200
-elastic: {youngs_modulus: 195000, poisson_ratio: 0.3}
-plasticity:
-  yield_stress: 305
-  kinematic:
-    - {model: armstrong_frederick, c: 35000, gamma: 260}
-    - {model: linear, plastic_modulus: 1350}
-  isotropic: {model: voce, q: 25, b: 8}
-`), 0o644)
+	single := "../../testdata/temperature/canopy-steel-hot-200c.yaml"
 	hot := filepath.Join(dir, "hot.csv")
 	os.WriteFile(hot, []byte("strain,temperature\n0.004,200\n-0.004,200\n0.006,200\n"), 0o644)
 	cold := filepath.Join(dir, "cold.csv")
