@@ -148,3 +148,30 @@ func TestTemperatureCardCompare(t *testing.T) {
 		t.Error("no change at 673.15 K")
 	}
 }
+
+// BenchmarkVerifyTemperatureCard is worker.Verify on the
+// temperature-dependent demo card (5 temperatures) beside its 200 C column
+// as a card of one temperature: what the temperatures cost.
+func BenchmarkVerifyTemperatureCard(b *testing.B) {
+	for _, name := range []string{"canopy-steel-hot.yaml", "canopy-steel-hot-200c.yaml"} {
+		b.Run(name, func(b *testing.B) {
+			data, err := os.ReadFile("../testdata/temperature/" + name)
+			if err != nil {
+				b.Fatal(err)
+			}
+			doc, err := schema.Decode(name, data, nil)
+			if err != nil {
+				b.Fatal(err)
+			}
+			card, ds := convert.Prepare(doc, nil)
+			if ds.HasErrors() {
+				b.Fatal(ds)
+			}
+			for b.Loop() {
+				if _, err := Verify(context.Background(), card, checks.Tool{Version: "bench"}, time.Unix(0, 0).UTC()); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
