@@ -24,6 +24,16 @@
 // plastic modulus H or by the tangent modulus Et of the bilinear curve,
 // H = E Et / (E - Et).
 //
+// # Temperature-dependent cards
+//
+// A card may list temperatures (strictly increasing, in units.temperature)
+// and give any parameter of elastic and plasticity as one number or as a
+// list with one value per temperature; Card.Tabulated holds the lists by
+// JSON pointer (Tabulable says which pointers may hold one) and Card's JSON
+// encoding writes them in place. Decode locates a list without
+// temperatures, a list of the wrong length and temperatures that do not
+// increase. Interpolation (linear, no extrapolation) belongs to convert.
+//
 // # What Decode accepts
 //
 // The syntax is detected from the content: a first character (after blanks)

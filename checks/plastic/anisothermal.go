@@ -70,12 +70,12 @@ func (tb *Table) At(T float64) (Material, error) {
 	a, b := &tb.M[k-1], &tb.M[k]
 	w := (T - tb.T[k-1]) / (tb.T[k] - tb.T[k-1])
 	lin := func(x, y float64) float64 { return (1-w)*x + w*y }
-	terms := make([]Term, a.N) // small; a Table step is not the hot loop of the standard cases
-	for i := range terms {
+	var terms [MaxTerms]Term // on the stack: a step does not allocate
+	for i := 0; i < a.N; i++ {
 		terms[i] = Term{C: lin(a.Terms[i].C, b.Terms[i].C), Gamma: lin(a.Terms[i].Gamma, b.Terms[i].Gamma)}
 	}
 	iso := Isotropic{Kind: a.Iso.Kind, K: lin(a.Iso.K, b.Iso.K), Q: lin(a.Iso.Q, b.Iso.Q), B: lin(a.Iso.B, b.Iso.B)}
-	return NewMaterial(lin(a.E, b.E), lin(a.Nu, b.Nu), lin(a.SigmaY, b.SigmaY), terms, iso)
+	return NewMaterial(lin(a.E, b.E), lin(a.Nu, b.Nu), lin(a.SigmaY, b.SigmaY), terms[:a.N], iso)
 }
 
 // StateT1D is the uniaxial state of an anisothermal history: the state of

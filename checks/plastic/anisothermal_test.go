@@ -207,3 +207,19 @@ func TestThermoMechanicalInvariants(t *testing.T) {
 		}
 	}
 }
+
+// An anisothermal step, between tabulated temperatures and plastic, does
+// not allocate (the hot loop of RunT1D).
+func TestStepT1DAllocates(t *testing.T) {
+	tb := hotTable(t)
+	s := StateT1D{T: 300}
+	var dst StateT1D
+	n := testing.AllocsPerRun(100, func() {
+		if _, err := tb.StepT1D(&dst, &s, 0.002, 310, nil); err != nil {
+			t.Fatal(err)
+		}
+	})
+	if n != 0 || dst.P == 0 {
+		t.Errorf("%g allocations a step (plastic: %v)", n, dst.P > 0)
+	}
+}
