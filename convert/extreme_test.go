@@ -30,7 +30,7 @@ var extremes = []string{
 func seedCards(t testing.TB) []string {
 	t.Helper()
 	var names []string
-	for _, pat := range []string{"../testdata/cards/*", "../testdata/bad/plausible/*", "../testdata/bad/schema/*"} {
+	for _, pat := range []string{"../testdata/cards/*", "../testdata/temperature/*", "../testdata/bad/plausible/*", "../testdata/bad/schema/*"} {
 		m, err := filepath.Glob(pat)
 		if err != nil {
 			t.Fatal(err)

@@ -7,13 +7,19 @@ import (
 	"testing"
 )
 
-// goodCards are the demo cards; each must decode without a diagnostic.
+// goodCards are the demo cards, the temperature-dependent ones included;
+// each must decode without a diagnostic.
 func goodCards(t testing.TB) []string {
 	t.Helper()
 	files, err := filepath.Glob("../testdata/cards/*")
 	if err != nil {
 		t.Fatal(err)
 	}
+	more, err := filepath.Glob("../testdata/temperature/*")
+	if err != nil {
+		t.Fatal(err)
+	}
+	files = append(files, more...)
 	var cards []string
 	for _, f := range files {
 		switch filepath.Ext(f) {
