@@ -348,10 +348,14 @@ func (a *API) prepare(body []byte) (*schema.Card, CardRef, []string, *prepareErr
 	// What the verification itself refuses (a reference too long to
 	// replay, say) is refused here too, with its location, rather than
 	// accepted and then failed in a worker without retry.
-	if spec, err := Spec(c); err != nil {
+	specs, err := Specs(c)
+	if err != nil {
 		return nil, CardRef{}, nil, &prepareError{diags: append(msgs, err.Error())}
-	} else if _, err := spec.Resolve(); err != nil {
-		return nil, CardRef{}, nil, &prepareError{diags: append(msgs, SpecDiagnostic(doc, err).String())}
+	}
+	for _, spec := range specs {
+		if _, err := spec.Resolve(); err != nil {
+			return nil, CardRef{}, nil, &prepareError{diags: append(msgs, SpecDiagnostic(doc, err).String())}
+		}
 	}
 	return c, RefOf(doc, c), msgs, nil
 }

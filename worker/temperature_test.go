@@ -3,6 +3,7 @@ package worker
 import (
 	"context"
 	"encoding/json"
+	"net/http"
 	"os"
 	"strings"
 	"testing"
@@ -173,5 +174,35 @@ func BenchmarkVerifyTemperatureCard(b *testing.B) {
 				}
 			}
 		})
+	}
+}
+
+// The queue path takes a temperature-dependent card as verify does: the
+// API accepts it (the spec at every temperature resolves), a worker
+// verifies it, and the stored record passes with its cases at every
+// temperature.
+func TestTemperatureCardAPI(t *testing.T) {
+	s := newAPIStack(t, true, 0)
+	resp, j := s.submitFile(t, "../testdata/temperature/canopy-steel-hot.yaml")
+	if resp.StatusCode != http.StatusAccepted {
+		t.Fatalf("submit: %d", resp.StatusCode)
+	}
+	done := s.waitJob(t, j.ID, 2*time.Minute)
+	if done.State != JobDone || done.Verdict != "pass" {
+		t.Fatalf("job %+v", done)
+	}
+	_, body := s.do(t, "GET", "/v1/records/"+j.ID, secretRead, "", nil)
+	rec, err := checks.ParseRecord(body)
+	if err != nil {
+		t.Fatal(err)
+	}
+	temps := map[float64]bool{}
+	for _, c := range rec.Cases {
+		if c.Temperature != nil {
+			temps[*c.Temperature] = true
+		}
+	}
+	if len(temps) != 9 { // 5 tabulated, 4 midpoints
+		t.Errorf("cases at %d temperatures, want 9: %v", len(temps), temps)
 	}
 }

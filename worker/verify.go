@@ -117,25 +117,43 @@ func verifyOne(ctx context.Context, c *schema.Card) (*checks.Result, []checks.Di
 	return res, diags, nil
 }
 
+// Specs returns the verification specs of a canonical card: its Spec, or
+// for a temperature-dependent card the Spec of its card at each tabulated
+// temperature (convert.At), in order.
+func Specs(c *schema.Card) ([]checks.Spec, error) {
+	if !c.IsTemperatureDependent() {
+		s, err := Spec(c)
+		if err != nil {
+			return nil, err
+		}
+		return []checks.Spec{s}, nil
+	}
+	var out []checks.Spec
+	for _, T := range c.Temperatures {
+		ck, err := convert.At(c, T)
+		if err != nil {
+			return nil, err
+		}
+		s, err := Spec(ck)
+		if err != nil {
+			return nil, fmt.Errorf("at %g K: %w", T, err)
+		}
+		out = append(out, s)
+	}
+	return out, nil
+}
+
 // verifyTable runs the verification of a temperature-dependent card.
 func verifyTable(ctx context.Context, c *schema.Card) (*checks.Result, error) {
 	tb, err := convert.MaterialTable(c)
 	if err != nil {
 		return nil, err
 	}
-	ts := checks.TableSpec{Table: tb}
-	for _, T := range c.Temperatures {
-		ck, err := convert.At(c, T)
-		if err != nil {
-			return nil, err
-		}
-		spec, err := Spec(ck)
-		if err != nil {
-			return nil, err
-		}
-		ts.Specs = append(ts.Specs, spec)
+	specs, err := Specs(c)
+	if err != nil {
+		return nil, err
 	}
-	res, err := checks.RunTable(ctx, ts)
+	res, err := checks.RunTable(ctx, checks.TableSpec{Table: tb, Specs: specs})
 	if err != nil {
 		return nil, fmt.Errorf("verify %s: %w", c.ID, err)
 	}
