@@ -9,6 +9,7 @@ import (
 	"strings"
 
 	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
@@ -25,45 +26,50 @@ var (
 )
 
 // Plot size and type sizes. The plots are drawn at the size they are
-// printed (about a third of an A4 page's width and height each), so their
-// lettering stays legible on paper: 9 pt labels, 8 pt tick labels.
+// printed (under half an A4 page's width), so that their lettering keeps
+// its size on paper: 8 pt labels, 7 pt tick labels and legend.
 const (
-	plotWidth  = 4.6 * vg.Inch
-	plotHeight = 3.0 * vg.Inch
-	titleSize  = 10 // pt
-	labelSize  = 9  // pt
-	tickSize   = 8  // pt
+	plotWidth  = 3.1 * vg.Inch
+	plotHeight = 2.0 * vg.Inch
+	titleSize  = 8.5 // pt
+	labelSize  = 8   // pt
+	tickSize   = 7   // pt
 )
 
 // newPlot returns a plot with the report's lettering and ticks.
 func newPlot(title, xLabel, yLabel string) *plot.Plot {
 	p := plot.New()
 	p.Title.Text = title
-	p.Title.TextStyle.Font.Size = vg.Points(titleSize)
+	p.Title.TextStyle.Font = sans(titleSize)
 	p.X.Label.Text, p.Y.Label.Text = xLabel, yLabel
 	for _, a := range []*plot.Axis{&p.X, &p.Y} {
-		a.Label.TextStyle.Font.Size = vg.Points(labelSize)
-		a.Tick.Label.Font.Size = vg.Points(tickSize)
-		a.Tick.Marker = plot.TickerFunc(niceTicks)
+		a.Label.TextStyle.Font = sans(labelSize)
+		a.Tick.Label.Font = sans(tickSize)
 	}
-	p.Legend.TextStyle.Font.Size = vg.Points(tickSize)
+	p.X.Tick.Marker = plot.TickerFunc(func(min, max float64) []plot.Tick { return niceTicks(min, max, 5) })
+	p.Y.Tick.Marker = plot.TickerFunc(func(min, max float64) []plot.Tick { return niceTicks(min, max, 5) })
+	p.Legend.TextStyle.Font = sans(tickSize)
 	p.Legend.Top, p.Legend.Left = true, true
 	p.Add(plotter.NewGrid())
 	return p
 }
 
-// niceTicks labels about six steps of 1, 2 or 5 times a power of ten
-// across [min, max], with four or five unlabelled ticks between labels.
-func niceTicks(min, max float64) []plot.Tick {
+// sans is the report's plot lettering at size pt.
+func sans(pt float64) font.Font {
+	return font.Font{Typeface: "Liberation", Variant: "Sans", Size: vg.Points(pt)}
+}
+
+// niceTicks labels [min, max] in the largest step of 1, 2 or 5 times a
+// power of ten that gives at least want labels, with unlabelled ticks
+// between them (a fifth or a quarter of the step).
+func niceTicks(min, max float64, want int) []plot.Tick {
 	if !(max > min) || math.IsInf(max-min, 0) {
 		return []plot.Tick{{Value: min, Label: num(min)}}
 	}
-	const want = 6
-	raw := (max - min) / want
-	mag := math.Pow(10, math.Floor(math.Log10(raw)))
-	step, minor := 10*mag, 5
-	for _, m := range []float64{1, 2, 5} {
-		if m*mag >= raw {
+	mag := math.Pow(10, math.Floor(math.Log10((max-min)/float64(want))))
+	step, minor := mag, 5
+	for _, m := range []float64{5, 2, 1} {
+		if math.Floor(max/(m*mag)+1e-9)-math.Ceil(min/(m*mag)-1e-9)+1 >= float64(want) {
 			step = m * mag
 			if m == 2 {
 				minor = 4
@@ -121,6 +127,20 @@ func casePlots(name string, d caseData, u display) ([]template.HTML, error) {
 		for j, q := range o.Points {
 			xy[j] = plotter.XY{X: 100 * q.X, Y: q.Y / u.Pa}
 		}
+		if !o.Recorded {
+			// A closed form is a curve: dashed, so the response under it
+			// shows through.
+			line, err := plotter.NewLine(xy)
+			if err != nil {
+				return nil, err
+			}
+			line.Color = inkOverlay[i%len(inkOverlay)]
+			line.Width = vg.Points(1.1)
+			line.Dashes = []vg.Length{vg.Points(4), vg.Points(2.5)}
+			p.Add(line)
+			p.Legend.Add(o.Name, line)
+			continue
+		}
 		sc, err := plotter.NewScatter(xy)
 		if err != nil {
 			return nil, err
@@ -131,6 +151,7 @@ func casePlots(name string, d caseData, u display) ([]template.HTML, error) {
 		p.Add(sc)
 		p.Legend.Add(o.Name, sc)
 	}
+	placeLegend(p, d.Runs, 100, 1/u.Pa)
 	svg, err := inlineSVG(p)
 	if err != nil {
 		return nil, err
@@ -141,12 +162,52 @@ func casePlots(name string, d caseData, u display) ([]template.HTML, error) {
 		if err := addRuns(q, d.ShearRuns, 1/u.Pa, 1/u.Pa); err != nil {
 			return nil, err
 		}
+		placeLegend(q, d.ShearRuns, 1/u.Pa, 1/u.Pa)
 		if svg, err = inlineSVG(q); err != nil {
 			return nil, err
 		}
 		out = append(out, svg)
 	}
 	return out, nil
+}
+
+// placeLegend puts the legend in the corner of the plot that the
+// response crosses least: a third of the width and a quarter of the
+// height from each corner are counted.
+func placeLegend(p *plot.Plot, runs [][]point, sx, sy float64) {
+	xmin, xmax, ymin, ymax := p.X.Min, p.X.Max, p.Y.Min, p.Y.Max
+	if !(xmax > xmin && ymax > ymin) {
+		return
+	}
+	var count [2][2]int // [top][left]
+	for _, run := range runs {
+		for _, q := range run {
+			x, y := (sx*q.X-xmin)/(xmax-xmin), (sy*q.Y-ymin)/(ymax-ymin)
+			for top := 0; top < 2; top++ {
+				for left := 0; left < 2; left++ {
+					inX := (left == 1 && x < 1.0/3) || (left == 0 && x > 2.0/3)
+					inY := (top == 1 && y > 0.75) || (top == 0 && y < 0.25)
+					if inX && inY {
+						count[top][left]++
+					}
+				}
+			}
+		}
+	}
+	best := [2]int{1, 1}
+	for _, c := range [][2]int{{1, 1}, {0, 0}, {1, 0}, {0, 1}} {
+		if count[c[0]][c[1]] < count[best[0]][best[1]] {
+			best = c
+		}
+	}
+	p.Legend.Top, p.Legend.Left = best[0] == 1, best[1] == 1
+	p.Legend.XOffs, p.Legend.YOffs = vg.Points(4), vg.Points(-4)
+	if !p.Legend.Left {
+		p.Legend.XOffs = vg.Points(-4)
+	}
+	if !p.Legend.Top {
+		p.Legend.YOffs = vg.Points(4)
+	}
 }
 
 // addRuns draws the runs of the response as lines, x and y scaled.

@@ -61,6 +61,10 @@ type checkRow struct {
 	Name, Quantity                        string
 	Value, Reference, Tolerance, UnitName string
 	Source, Basis                         string // with citations as numbers
+	// Same names the case whose check of the same name was measured and
+	// referenced word for word as this one, when an earlier case has one:
+	// the row then refers to it instead of repeating the words.
+	Same, SameAnchor string
 }
 
 type findingView struct {
@@ -121,6 +125,7 @@ func newView(rec *checks.Record, w Written) (*view, error) {
 			}
 		}
 	}
+	shown := map[[3]string]string{} // name, quantity, source: the case that shows them
 	for _, c := range rec.Cases {
 		cv := caseView{Anchor: anchor(c.Name), Name: c.Name, Kind: c.Kind, Loading: c.Loading, Skipped: c.Skipped, Omitted: c.Omitted}
 		if c.Skipped != "" {
@@ -128,7 +133,14 @@ func newView(rec *checks.Record, w Written) (*view, error) {
 		}
 		v.Omitted += len(c.Omitted)
 		for _, k := range c.Checks {
-			cv.Rows = append(cv.Rows, v.row(k))
+			r := v.row(k)
+			key := [3]string{k.Name, k.Quantity, k.ReferenceSource}
+			if first, ok := shown[key]; ok {
+				r.Same, r.SameAnchor = first, anchor(first)
+			} else {
+				shown[key] = c.Name
+			}
+			cv.Rows = append(cv.Rows, r)
 			if k.Pass {
 				cv.Passed++
 			} else {

@@ -24,9 +24,14 @@ type caseData struct {
 
 // overlay is one closed-form or reference curve.
 type overlay struct {
-	Name   string
-	Points []point
+	Name     string
+	Points   []point
+	Recorded bool // the points of a reference curve (else a closed form)
 }
+
+// referenceKind is the kind of a case that replays a reference curve
+// (checks' reference case): its overlay is the recorded points.
+const referenceKind = "reference-curve"
 
 // readCase returns the plotted data of c.
 func readCase(c checks.Case) caseData {
@@ -51,7 +56,7 @@ func readCase(c checks.Case) caseData {
 		}
 	}
 	for _, cv := range c.Curves {
-		o := overlay{Name: cv.Name, Points: make([]point, len(cv.Points))}
+		o := overlay{Name: cv.Name, Points: make([]point, len(cv.Points)), Recorded: c.Kind == referenceKind}
 		for j, q := range cv.Points {
 			o.Points[j] = point{q[0], q[1]}
 		}

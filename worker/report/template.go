@@ -34,24 +34,29 @@ td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 .tag{display:inline-block;min-width:4.2rem;padding:0 .3rem;font-size:.8em;border:1px solid currentColor;border-radius:2px;text-align:center}
 .tag.pass{color:var(--pass)}.tag.fail{color:var(--fail)}.tag.skip{color:var(--muted)}
 .case{break-inside:auto}
-.figs{display:flex;flex-wrap:wrap;gap:.6rem;margin:.3rem 0}
+.casehead{display:flex;gap:1rem;align-items:flex-start;margin:.3rem 0}
+.figs{display:flex;flex-wrap:wrap;gap:.5rem;flex:0 0 auto;max-width:56rem}
 .figs svg{width:27rem;max-width:100%;height:auto;border:1px solid var(--rule)}
-.checks td{font-size:.88em}.checks td.why{font-size:.8em;color:var(--muted);max-width:30rem}
-.checks tr.no td{background:#fdebe3}
-.mark{font-weight:700;text-align:center;width:1.4rem}.ok{color:var(--pass)}.no .mark{color:var(--fail)}
+.caseinfo{flex:1 1 18rem;font-size:.92em}.caseinfo>div{margin-bottom:.3rem}
+.checks td{font-size:.9em;border-bottom:none}.checks tr.why td{font-size:.78em;color:var(--muted);border-bottom:1px solid var(--rule);padding-top:0}
+.checks td.name{width:40%}
+.checks tbody.no td{background:#fdebe3}
+.mark{font-weight:700;text-align:center;width:1.4rem;border-bottom:1px solid var(--rule)!important}.ok{color:var(--pass)}.no .mark{color:var(--fail)}
 .refs li{margin:.25rem 0}.mem{color:#8a4b00}
-.kv th{width:14rem}
+.kv th{width:32%}.print{display:none}
 @media print{
   @page{size:A4;margin:11mm 10mm}
   body{font-size:8.4pt;max-width:none;padding:0}
   h2{font-size:10.5pt;margin:.7rem 0 .3rem;break-after:avoid}
   .band{padding:.35rem .6rem}.word{font-size:15pt}
-  .figs{gap:.3rem}.figs svg{width:48%;border:none}
-  .checks td{font-size:7.2pt;padding:.06rem .25rem}.checks td.why{font-size:6.6pt}
-  .checks tr{break-inside:avoid}
+  .casehead{gap:.5rem}.figs{gap:.2rem;max-width:7.2in}.figs svg{width:3.1in;border:none}
+  .caseinfo{font-size:7.6pt}
+  .checks td{font-size:7.4pt;padding:.04rem .25rem}.checks tr.why td{font-size:6.5pt;line-height:1.25}
+  .checks tbody{break-inside:avoid}
   .failed,.diag,.caution{break-inside:avoid}
   a{color:inherit;text-decoration:none}
-  .screen{display:none}
+  .screen{display:none}.print{display:block}
+  .tb{display:none}
 }
 </style></head><body>
 <header>
@@ -108,7 +113,7 @@ td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 {{range .FailedChecks}}<div class="failed">
 <h3><a href="#{{.Anchor}}">{{.Case}}</a>: {{.Row.Name}}</h3>
 <div>{{.Row.Quantity}}</div>
-<div>value <b>{{.Row.Value}}</b>, reference {{.Row.Reference}} {{.Row.UnitName}}, tolerance {{.Row.Tolerance}}</div>
+<div>value <b>{{.Row.Value}}</b>, reference {{.Row.Reference}}{{with .Row.UnitName}} {{.}}{{end}}, tolerance {{.Row.Tolerance}}</div>
 <div class="small muted">reference from: {{.Row.Source}}</div>
 {{range .Findings}}<div class="diag"><b>Diagnosis{{with .Misreading}}: {{.}}{{end}}.</b> {{.Text}}</div>
 {{else}}<div class="diag">No diagnosis: matgate diagnoses misreadings of the card on reference-curve checks only; compare the value with its reference and the source above.</div>{{end}}
@@ -128,20 +133,25 @@ td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 {{range .Cases}}<li><a href="#{{.Anchor}}">{{.Name}}</a> <span class="muted small">{{.Kind}}</span> {{if .Skipped}}<span class="tag skip">not run</span>{{else if .Failed}}<span class="tag fail">{{.Failed}} failed</span>{{else}}<span class="tag pass">{{.Passed}} passed</span>{{end}}</li>
 {{end}}</ol>
 <p class="small muted">Values are in {{.Unit.Unit}} ({{.Unit.EnergyUnit}} for energy per volume) with 4 significant digits; strains are plain numbers; the record holds every value in SI to full precision. Sources are cited by number: see <a href="#sources">Sources</a>.</p>
+<p class="small muted print">This printed copy leaves out the basis of each tolerance; the report on screen and the record hold it.</p>
 </nav>
 
 {{range .Cases}}<section class="case" id="{{.Anchor}}">
 <h2>{{.Name}} <span class="muted small">{{.Kind}}</span></h2>
-<div class="small">{{.Loading}}</div>
 {{if .Skipped}}<p><em>Not run: {{.Skipped}}</em></p>{{else}}
+<div class="casehead">
 {{if .Plots}}<div class="figs">{{range .Plots}}{{.}}{{end}}</div>{{end}}
+<div class="caseinfo">
+<div>{{.Loading}}</div>
 {{range .Findings}}<div class="diag">Finding{{with .Misreading}} ({{.}}){{end}}{{if .Passed}} on a passing check{{end}}: {{.Text}}</div>{{end}}
-<table class="checks">
-<tr><th></th><th>check</th><th class="n">value</th><th class="n">reference</th><th>unit</th><th>tolerance</th><th>reference from · tolerance basis</th></tr>
-{{range .Rows}}<tr{{if not .Pass}} class="no"{{end}}><td class="mark {{if .Pass}}ok{{end}}">{{if .Pass}}✓{{else}}✗{{end}}</td><td>{{.Name}}<div class="small muted">{{.Quantity}}</div></td><td class="n">{{.Value}}</td><td class="n">{{.Reference}}</td><td>{{.UnitName}}</td><td>{{.Tolerance}}</td><td class="why">{{.Source}}<br>· {{.Basis}}</td></tr>
-{{end}}</table>
 {{with .Measures}}<div class="small muted">Measured, not checked: {{range $i, $m := .}}{{if $i}}; {{end}}{{$m}}{{end}}.</div>{{end}}
 {{range .Omitted}}<div class="small muted">Not applicable: {{.Check}}: {{.Why}}</div>{{end}}
+</div></div>
+<table class="checks">
+<tr><th></th><th>check</th><th class="n">value</th><th class="n">reference</th><th>unit</th><th>tolerance</th></tr>
+{{range .Rows}}<tbody{{if not .Pass}} class="no"{{end}}><tr><td class="mark {{if .Pass}}ok{{end}}" rowspan="2">{{if .Pass}}✓{{else}}✗{{end}}</td><td class="name">{{.Name}}</td><td class="n">{{.Value}}</td><td class="n">{{.Reference}}</td><td>{{.UnitName}}</td><td>{{.Tolerance}}</td></tr>
+<tr class="why"><td colspan="5">{{if .Same}}quantity and reference as in <a href="#{{.SameAnchor}}">{{.Same}}</a>{{else}}<i>{{.Quantity}}</i> · <b>reference:</b> {{.Source}}{{end}}<span class="tb"> · <b>tolerance:</b> {{.Basis}}</span></td></tr></tbody>
+{{end}}</table>
 {{end}}</section>
 {{end}}
 
