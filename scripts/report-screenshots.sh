@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # report-screenshots.sh: renders the HTML reports of the demo cards, and of
 # one card that fails, in headless Chromium: a PNG of the first screen and
-# of the whole page of each, and a PDF as printed (A4) with its page count.
+# one of the first 9000 pixels of the page of each, and a PDF as printed
+# (A4) with its page count.
 # Installs the Debian packages chromium and poppler-utils when missing.
 #
 #   scripts/report-screenshots.sh [OUTDIR]    # default /tmp/matgate-screenshots
@@ -54,8 +55,11 @@ verification:
     - {name: solver-tension, kind: solver, points: [$points]}
 CARD
 
+# The records are signed with a throwaway key, so the reports show a
+# signature.
+"$work/matgate" record keygen "$work/demo" >/dev/null
 set +e
-"$work/matgate" verify --report --out "$work/out" testdata/cards "$work/misread.yaml" >"$work/verify.txt"
+"$work/matgate" verify --report --sign-key "$work/demo.key" --out "$work/out" testdata/cards "$work/misread.yaml" >"$work/verify.txt"
 code=$?
 set -e
 if ((code > 1)); then

@@ -238,7 +238,7 @@ func TestRenderSources(t *testing.T) {
 	if strings.Contains(body+after, "from memory") {
 		t.Error(`"from memory" is said outside the list of sources`)
 	}
-	if !strings.Contains(list, "Recalled from memory") {
+	if !regexp.MustCompile(`<span class="mem">[^<]*from memory[^<]*confirm against`).MatchString(list) {
 		t.Error("the list does not mark the works recalled from memory")
 	}
 }

@@ -25,7 +25,7 @@ type work struct {
 	N        int
 	Citation string   // as the record cites it, without the note
 	Uses     []string // what the record takes from it (the notes), each once
-	Memory   []string // remarks that it was recalled from memory, each once
+	Memory   []string // remarks that it was recalled from memory, each once, capitalized
 }
 
 var (
@@ -126,7 +126,7 @@ func (b *bibliography) note(w *work, note string) {
 			continue
 		}
 		if memoryNote.MatchString(part) {
-			w.Memory = appendOnce(w.Memory, part)
+			w.Memory = appendOnce(w.Memory, capitalize(part))
 			continue
 		}
 		uses = append(uses, part)
@@ -155,7 +155,7 @@ func (b *bibliography) memoryAfterCitation(text string) string {
 			from = i + 1
 			continue
 		}
-		w.Memory = appendOnce(w.Memory, inner)
+		w.Memory = appendOnce(w.Memory, capitalize(inner))
 		cut := i
 		if cut > 0 && text[cut-1] == ' ' {
 			cut-- // the space before the parenthesis goes with it
@@ -180,6 +180,13 @@ func (b *bibliography) lastCited(text string) *work {
 		return nil
 	}
 	return b.Entries[n-1]
+}
+
+func capitalize(s string) string {
+	if s == "" {
+		return s
+	}
+	return strings.ToUpper(s[:1]) + s[1:]
 }
 
 func appendOnce(list []string, s string) []string {

@@ -130,14 +130,14 @@ td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 
 <nav><h2>Cases</h2>
 <ol class="toc">
-{{range .Cases}}<li><a href="#{{.Anchor}}">{{.Name}}</a> <span class="muted small">{{.Kind}}</span> {{if .Skipped}}<span class="tag skip">not run</span>{{else if .Failed}}<span class="tag fail">{{.Failed}} failed</span>{{else}}<span class="tag pass">{{.Passed}} passed</span>{{end}}</li>
+{{range .Cases}}<li><a href="#{{.Anchor}}">{{.Name}}</a>{{if ne .Kind .Name}} <span class="muted small">{{.Kind}}</span>{{end}} {{if .Skipped}}<span class="tag skip">not run</span>{{else if .Failed}}<span class="tag fail">{{.Failed}} failed</span>{{else}}<span class="tag pass">{{.Passed}} passed</span>{{end}}</li>
 {{end}}</ol>
-<p class="small muted">Values are in {{.Unit.Unit}} ({{.Unit.EnergyUnit}} for energy per volume) with 4 significant digits; strains are plain numbers; the record holds every value in SI to full precision. Sources are cited by number: see <a href="#sources">Sources</a>.</p>
+<p class="small muted">Values are in {{.Unit.Unit}} ({{.Unit.EnergyUnit}} for energy per volume) with 4 significant digits; strains are plain numbers where no % is shown; the record holds every value in SI to full precision. Sources are cited by number: see <a href="#sources">Sources</a>.</p>
 <p class="small muted print">This printed copy leaves out the basis of each tolerance; the report on screen and the record hold it.</p>
 </nav>
 
 {{range .Cases}}<section class="case" id="{{.Anchor}}">
-<h2>{{.Name}} <span class="muted small">{{.Kind}}</span></h2>
+<h2>{{.Name}}{{if ne .Kind .Name}} <span class="muted small">{{.Kind}}</span>{{end}}</h2>
 {{if .Skipped}}<p><em>Not run: {{.Skipped}}</em></p>{{else}}
 <div class="casehead">
 {{if .Plots}}<div class="figs">{{range .Plots}}{{.}}{{end}}</div>{{end}}
@@ -158,7 +158,7 @@ td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 <section id="sources">
 <h2>Sources</h2>
 <ol class="refs">
-{{range .Bib.Entries}}<li>{{.Citation}}.{{with .Uses}} <span class="muted">Used for: {{range $i, $u := .}}{{if $i}}; {{end}}{{$u}}{{end}}.</span>{{end}}{{if .Memory}} <span class="mem">Recalled from memory ({{range $i, $m := .Memory}}{{if $i}}; {{end}}{{$m}}{{end}}): {{.Confirm}}.</span>{{end}}</li>
+{{range .Bib.Entries}}<li>{{.Citation}}.{{with .Uses}} <span class="muted">Used for: {{range $i, $u := .}}{{if $i}}; {{end}}{{$u}}{{end}}.</span>{{end}}{{if .Memory}} <span class="mem">{{range .Memory}}{{.}}; {{end}}{{.Confirm}}.</span>{{end}}</li>
 {{end}}</ol>
 <p class="small muted">Text marked "common practice, no source" is a fact of the trade; "derived here" is derived in matgate's code from the cited works.</p>
 </section>
