@@ -30,7 +30,7 @@ var (
 // its size on paper: 8 pt labels, 7 pt tick labels and legend.
 const (
 	plotWidth  = 3.1 * vg.Inch
-	plotHeight = 2.0 * vg.Inch
+	plotHeight = 1.85 * vg.Inch
 	titleSize  = 8.5 // pt
 	labelSize  = 8   // pt
 	tickSize   = 7   // pt

@@ -87,6 +87,7 @@ type caseView struct {
 	Omitted                              []checks.Omission
 	Measures                             []string
 	Plots                                []template.HTML
+	Gaps                                 bool // the plotted response leaves out increments
 	Findings                             []findingView
 }
 
@@ -164,7 +165,9 @@ func newView(rec *checks.Record, w Written) (*view, error) {
 			}
 		}
 		if c.Skipped == "" {
-			if cv.Plots, err = casePlots(c.Name, readCase(c), u); err != nil {
+			d := readCase(c)
+			cv.Gaps = len(d.Runs) > 1
+			if cv.Plots, err = casePlots(c.Name, d, u); err != nil {
 				return nil, fmt.Errorf("plot %s: %w", c.Name, err)
 			}
 		}

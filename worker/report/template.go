@@ -13,7 +13,7 @@ const reportHTML = `<!DOCTYPE html>
 body{font:14px/1.45 system-ui,"Segoe UI",Helvetica,Arial,sans-serif;color:var(--ink);margin:0 auto;max-width:76rem;padding:1.2rem 1.6rem}
 h1{font-size:1.35rem;margin:.2rem 0}h2{font-size:1.1rem;margin:1.4rem 0 .4rem;padding-bottom:.15rem;border-bottom:2px solid var(--rule)}
 h3{font-size:.95rem;margin:.8rem 0 .3rem}
-.muted{color:var(--muted)}.small{font-size:.85em}.mono{font-family:ui-monospace,Consolas,monospace;font-size:.85em;word-break:break-all}
+.muted{color:var(--muted)}.small{font-size:.85em}.mono{font-family:ui-monospace,Consolas,monospace;font-size:.85em;word-break:break-all}.nw{white-space:nowrap;word-break:normal}
 .band{display:flex;gap:1.2rem;align-items:stretch;border:1px solid var(--rule);border-left-width:.6rem;padding:.7rem 1rem;margin:.6rem 0}
 .band.pass{border-left-color:var(--pass)}.band.fail{border-left-color:var(--fail);background:#fdf3ee}
 .word{font-size:1.7rem;font-weight:700;letter-spacing:.06em;min-width:8.5rem}
@@ -38,15 +38,15 @@ td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 .figs{display:flex;flex-wrap:wrap;gap:.5rem;flex:0 0 auto;max-width:56rem}
 .figs svg{width:27rem;max-width:100%;height:auto;border:1px solid var(--rule)}
 .caseinfo{flex:1 1 18rem;font-size:.92em}.caseinfo>div{margin-bottom:.3rem}
-.checks td{font-size:.9em;border-bottom:none}.checks tr.why td{font-size:.78em;color:var(--muted);border-bottom:1px solid var(--rule);padding-top:0}
-.checks td.name{width:40%}
+.checks td{font-size:.9em;border-bottom:none}.checks tr.why td{font-size:.78em;color:var(--muted);padding-top:0}
+.checks td.name{width:47%}.checks tbody{border-bottom:1px solid var(--rule)}
 .checks tbody.no td{background:#fdebe3}
-.mark{font-weight:700;text-align:center;width:1.4rem;border-bottom:1px solid var(--rule)!important}.ok{color:var(--pass)}.no .mark{color:var(--fail)}
+.mark{font-weight:700;text-align:center;width:1.4rem}.ok{color:var(--pass)}.no .mark{color:var(--fail)}
 .refs li{margin:.25rem 0}.mem{color:#8a4b00}
 .kv th{width:32%}.print{display:none}
 @media print{
-  @page{size:A4;margin:11mm 10mm}
-  body{font-size:8.4pt;max-width:none;padding:0}
+  @page{size:A4;margin:10mm 9mm}
+  body{font-size:8.2pt;line-height:1.35;max-width:none;padding:0}
   h2{font-size:10.5pt;margin:.7rem 0 .3rem;break-after:avoid}
   .band{padding:.35rem .6rem}.word{font-size:15pt}
   .casehead{gap:.5rem}.figs{gap:.2rem;max-width:7.2in}.figs svg{width:3.1in;border:none}
@@ -101,7 +101,7 @@ td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 <h3>Integrity</h3>
 <table class="kv">
 <tr><th>record digest</th><td><span class="mono">{{.R.Digest}}</span><br>{{if .DigestOK}}matches the record's content{{else}}<b class="no">does not match the record's content: the record was altered</b>{{end}}</td></tr>
-<tr><th>signature</th><td>{{with .R.Signature}}signed with {{.Algorithm}} key <span class="mono">{{.KeyID}}</span>; check it with the signer's public key (<span class="mono">matgate record verify --public-key</span>){{else}}not signed: nothing shows who made the record{{end}}</td></tr>
+<tr><th>signature</th><td>{{with .R.Signature}}signed with {{.Algorithm}} key <span class="mono">{{.KeyID}}</span>; check it with the signer's public key (<span class="mono nw">matgate record verify --public-key</span>){{else}}not signed: nothing shows who made the record{{end}}</td></tr>
 <tr><th>card digest</th><td><span class="mono">{{.R.Card.Digest}}</span></td></tr>
 <tr><th>tool, created</th><td>matgate {{.R.Tool.Version}} ({{.R.Tool.Commit}}), {{.R.Created}}</td></tr>
 </table>
@@ -144,13 +144,14 @@ td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 <div class="caseinfo">
 <div>{{.Loading}}</div>
 {{range .Findings}}<div class="diag">Finding{{with .Misreading}} ({{.}}){{end}}{{if .Passed}} on a passing check{{end}}: {{.Text}}</div>{{end}}
+{{if .Gaps}}<div class="small muted">The plot draws the first and the last increments of this long run; the line breaks where increments are left out.</div>{{end}}
 {{with .Measures}}<div class="small muted">Measured, not checked: {{range $i, $m := .}}{{if $i}}; {{end}}{{$m}}{{end}}.</div>{{end}}
 {{range .Omitted}}<div class="small muted">Not applicable: {{.Check}}: {{.Why}}</div>{{end}}
 </div></div>
 <table class="checks">
 <tr><th></th><th>check</th><th class="n">value</th><th class="n">reference</th><th>unit</th><th>tolerance</th></tr>
-{{range .Rows}}<tbody{{if not .Pass}} class="no"{{end}}><tr><td class="mark {{if .Pass}}ok{{end}}" rowspan="2">{{if .Pass}}✓{{else}}✗{{end}}</td><td class="name">{{.Name}}</td><td class="n">{{.Value}}</td><td class="n">{{.Reference}}</td><td>{{.UnitName}}</td><td>{{.Tolerance}}</td></tr>
-<tr class="why"><td colspan="5">{{if .Same}}quantity and reference as in <a href="#{{.SameAnchor}}">{{.Same}}</a>{{else}}<i>{{.Quantity}}</i> · <b>reference:</b> {{.Source}}{{end}}<span class="tb"> · <b>tolerance:</b> {{.Basis}}</span></td></tr></tbody>
+{{range .Rows}}<tbody{{if not .Pass}} class="no"{{end}}><tr><td class="mark {{if .Pass}}ok{{end}}"{{if not .Same}} rowspan="2"{{end}}>{{if .Pass}}✓{{else}}✗{{end}}</td><td class="name">{{.Name}}{{if .Same}} <span class="small muted">· quantity and reference as in <a href="#{{.SameAnchor}}">{{.Same}}</a></span>{{end}}</td><td class="n">{{.Value}}</td><td class="n">{{.Reference}}</td><td>{{.UnitName}}</td><td>{{.Tolerance}}</td></tr>
+{{if .Same}}<tr class="why tb"><td colspan="6"><b>tolerance:</b> {{.Basis}}</td></tr>{{else}}<tr class="why"><td colspan="5"><i>{{.Quantity}}</i> · <b>reference:</b> {{.Source}}<span class="tb"> · <b>tolerance:</b> {{.Basis}}</span></td></tr>{{end}}</tbody>
 {{end}}</table>
 {{end}}</section>
 {{end}}
@@ -169,8 +170,8 @@ td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 <tr><th>profile, algorithm</th><td>{{.R.Settings.Profile}}, {{.R.Settings.Algorithm}}</td></tr>
 <tr><th>step-size rerun</th><td>{{.R.Settings.Refinement}}</td></tr>
 <tr><th>stabilized cycle</th><td>{{.Stabilized}}</td></tr>
-{{range .R.Settings.Cases}}<tr><th>{{.Case}}</th><td>{{.Control}} control, {{.Increments}} increments ({{.Rerun}} in the rerun){{with .Algorithm}}, algorithm {{.}}{{end}}</td></tr>
-{{end}}</table>
+<tr><th>increments per case (in the rerun)</th><td>{{range $i, $c := .R.Settings.Cases}}{{if $i}}; {{end}}{{$c.Case}}: {{$c.Control}} control, {{$c.Increments}} ({{$c.Rerun}}){{with $c.Algorithm}}, algorithm {{.}}{{end}}{{end}}</td></tr>
+</table>
 </section>
 <p class="caution"><b>Caution.</b> {{.R.Caution}}</p>
 </body></html>
