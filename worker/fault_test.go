@@ -111,7 +111,7 @@ func TestKilledWorkerRecovered(t *testing.T) {
 	if err != nil || info.State != asynq.TaskStateCompleted || info.Retried < 1 {
 		t.Errorf("task after recovery: %+v %v; want completed after a retry", info, err)
 	}
-	if rep, _ := VerifyLedger(s.dir); rep.Break != nil || rep.Entries != 1 {
+	if rep, _ := VerifyLedger(s.dir, nil); rep.Break != nil || rep.Entries != 1 {
 		t.Errorf("ledger: %+v", rep)
 	}
 }
@@ -146,7 +146,7 @@ func TestServeRestartBeforeMaterialize(t *testing.T) {
 	}
 	s.startMaterializer(t)
 	s.waitStored(t, time.Minute, ids...)
-	if rep, _ := VerifyLedger(s.dir); rep.Break != nil || rep.Entries != len(ids) {
+	if rep, _ := VerifyLedger(s.dir, nil); rep.Break != nil || rep.Entries != len(ids) {
 		t.Errorf("ledger: %+v", rep)
 	}
 	for _, id := range ids {
@@ -229,7 +229,7 @@ func TestLoad1000(t *testing.T) {
 	if got := s.runs.Load(); got != n {
 		t.Errorf("%d verifications ran, want %d", got, n)
 	}
-	rep, err := VerifyLedger(s.dir)
+	rep, err := VerifyLedger(s.dir, nil)
 	if err != nil || rep.Break != nil || rep.Entries != n || rep.Files != 2*n {
 		t.Errorf("ledger: %+v %v", rep, err)
 	}
@@ -276,7 +276,7 @@ func TestWorkerShutdownRequeues(t *testing.T) {
 	}
 	s.startWorker(t)
 	s.waitStored(t, 2*time.Minute, id)
-	if rep, _ := VerifyLedger(s.dir); rep.Break != nil || rep.Entries != 1 {
+	if rep, _ := VerifyLedger(s.dir, nil); rep.Break != nil || rep.Entries != 1 {
 		t.Errorf("ledger: %+v", rep)
 	}
 }

@@ -232,7 +232,7 @@ func TestQueueMatchesInProcess(t *testing.T) {
 			t.Errorf("%s: queued neutral card differs from the in-process one", id)
 		}
 	}
-	rep, err := VerifyLedger(s.dir)
+	rep, err := VerifyLedger(s.dir, nil)
 	if err != nil || rep.Break != nil || rep.Entries != len(ids) || rep.Files != 2*len(ids) {
 		t.Errorf("ledger: %+v, %v", rep, err)
 	}

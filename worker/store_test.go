@@ -58,7 +58,7 @@ func TestDirStorePutIdempotent(t *testing.T) {
 	id2, rec2, card2 := storeOutputs(t, "steel-prager.json")
 	os.MkdirAll(filepath.Join(dir, id2[:2]), 0o755)
 	os.WriteFile(filepath.Join(dir, recordName(id2)), rec2, 0o444)
-	if rep, _ := VerifyLedger(dir); rep.Break == nil || !strings.Contains(rep.Break.Error(), "not in the ledger") {
+	if rep, _ := VerifyLedger(dir, nil); rep.Break == nil || !strings.Contains(rep.Break.Error(), "not in the ledger") {
 		t.Errorf("left-over file: ledger verify says %v", rep.Break)
 	}
 	s, err = OpenDirStore(dir)
@@ -91,7 +91,7 @@ func TestDirStorePutIdempotent(t *testing.T) {
 func TestLedgerVerify(t *testing.T) {
 	build := storeDemoCards
 	dir, _ := build(t)
-	if rep, err := VerifyLedger(dir); err != nil || rep.Break != nil || rep.Entries != 3 || rep.Files != 6 {
+	if rep, err := VerifyLedger(dir, nil); err != nil || rep.Break != nil || rep.Entries != 3 || rep.Files != 6 {
 		t.Fatalf("intact directory: %+v %v", rep, err)
 	}
 	ledgerLines := func(dir string) []string {
@@ -130,7 +130,7 @@ func TestLedgerVerify(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			dir, ids := build(t)
 			tc.damage(dir, ids)
-			rep, err := VerifyLedger(dir)
+			rep, err := VerifyLedger(dir, nil)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -150,7 +150,7 @@ func TestLedgerVerify(t *testing.T) {
 		t.Fatal(err)
 	}
 	s.Close()
-	if rep, _ := VerifyLedger(dir); rep.Break != nil || rep.Entries != 3 {
+	if rep, _ := VerifyLedger(dir, nil); rep.Break != nil || rep.Entries != 3 {
 		t.Errorf("after reopening: %+v", rep)
 	}
 }
