@@ -45,7 +45,14 @@ func (m *Materializer) ProcessTask(ctx context.Context, t *asynq.Task) error {
 	if err := json.Unmarshal(t.Payload(), &p); err != nil || !ValidID(p.ID) {
 		return fmt.Errorf("materialize task: bad payload %q: %w", t.Payload(), asynq.SkipRetry)
 	}
-	return m.materialize(ctx, p.ID, p.Seconds)
+	err := m.materialize(ctx, p.ID, p.Seconds)
+	if errors.Is(err, ErrRefused) {
+		// Done: the job's failure is recorded. The task ends without
+		// error so that it is not kept, and a new run's materialize task
+		// of the same id can be enqueued.
+		return nil
+	}
+	return err
 }
 
 func (m *Materializer) log() *slog.Logger {
@@ -75,7 +82,7 @@ func (m *Materializer) materialize(ctx context.Context, id string, seconds float
 	}
 	a, err := admit(id, []byte(rec), []byte(card), m.Key)
 	if errors.Is(err, ErrRefused) {
-		return fmt.Errorf("materialize %s: %w: %w", id, m.refuse(ctx, id, err), asynq.SkipRetry)
+		return fmt.Errorf("materialize %s: %w", id, m.refuse(ctx, id, err))
 	}
 	if err != nil {
 		return fmt.Errorf("materialize %s: %w", id, err)
@@ -104,8 +111,8 @@ func (m *Materializer) materialize(ctx context.Context, id string, seconds float
 // refuse fails job id for good because its outputs in Redis were refused
 // (why): they are moved aside for RefusedTTL, the job's failure says why,
 // and its finished verification task is removed so that a resubmission
-// runs it again. It returns why, or why joined with the Redis error that
-// kept it from being recorded.
+// runs it again. It returns why, or the Redis error that kept it from
+// being recorded (and the refusal is made again at the next attempt).
 func (m *Materializer) refuse(ctx context.Context, id string, why error) error {
 	m.log().Error("store: refused the outputs of a job; not stored, the job is failed", "id", id, "reason", why)
 	pipe := m.Redis.TxPipeline()
@@ -115,7 +122,7 @@ func (m *Materializer) refuse(ctx context.Context, id string, why error) error {
 	pipe.Expire(ctx, refusedCardKey(id), RefusedTTL)
 	pipe.Set(ctx, failureKey(id), failureJSON(FailureRefused, why.Error(), time.Now()), RefusedTTL)
 	if _, err := pipe.Exec(ctx); err != nil {
-		return errors.Join(why, fmt.Errorf("recording the refusal: %w", err))
+		return fmt.Errorf("recording the refusal (%v): %w", why, err)
 	}
 	if m.Inspector != nil {
 		if err := m.Inspector.DeleteTask(QueueVerify, id); err != nil && !errors.Is(err, asynq.ErrTaskNotFound) && !errors.Is(err, asynq.ErrQueueNotFound) {

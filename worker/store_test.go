@@ -1,11 +1,13 @@
 package worker
 
 import (
+	"bytes"
 	"context"
 	"errors"
 	"os"
 	"path/filepath"
 	"strings"
+	"sync"
 	"testing"
 	"time"
 )
@@ -13,20 +15,32 @@ import (
 func errorsIs(err, target error) bool { return errors.Is(err, target) }
 
 // storeOutputs verifies a demo card in-process and returns its job id and
-// the bytes the store keeps.
+// the bytes the store keeps (copies of one verification per card: the
+// outputs are the same every time, stamped with a fixed time).
 func storeOutputs(t *testing.T, file string) (id string, rec, card []byte) {
 	t.Helper()
-	c := loadTestCard(t, filepath.Join("..", "testdata", "cards", file))
-	out, err := Verify(context.Background(), c, testTool, time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC))
-	if err != nil {
-		t.Fatal(err)
+	type outputs struct {
+		id        string
+		rec, card []byte
 	}
-	rec, err = RecordJSON(out.Record)
-	if err != nil {
-		t.Fatal(err)
+	o, ok := storeOutputsMemo.Load(file)
+	if !ok {
+		c := loadTestCard(t, filepath.Join("..", "testdata", "cards", file))
+		out, err := Verify(context.Background(), c, testTool, time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC))
+		if err != nil {
+			t.Fatal(err)
+		}
+		rec, err := RecordJSON(out.Record)
+		if err != nil {
+			t.Fatal(err)
+		}
+		o, _ = storeOutputsMemo.LoadOrStore(file, outputs{JobID(c.Digest, Settings{ToolVersion: testTool.Version}), rec, out.Card})
 	}
-	return JobID(c.Digest, Settings{ToolVersion: testTool.Version}), rec, out.Card
+	v := o.(outputs)
+	return v.id, bytes.Clone(v.rec), bytes.Clone(v.card)
 }
+
+var storeOutputsMemo sync.Map // file -> outputs
 
 func TestDirStorePutIdempotent(t *testing.T) {
 	dir := t.TempDir()
