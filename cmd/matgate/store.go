@@ -38,8 +38,9 @@ again (every store.reconcile_interval); this command shows them.
 the directory's write lock, so it runs only while serve is stopped.
 
 Configuration as serve's: --config, MATGATE_* environment, --store and
---redis. Exit 0 when nothing is left pending, 1 when records remain (or
-were refused) after --replay, 3 when Redis or the directory fails.`,
+--redis. Exit 0 after a listing, or when --replay stored every pending
+record; 1 when --replay refused some (their jobs are failed); 3 when Redis
+or the directory fails (with --replay: the records left stay pending).`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			cfg, err := loadConfig(cmd, map[string]string{"store.dir": "store", "redis.url": "redis"})
