@@ -17,7 +17,7 @@ func errorsIs(err, target error) bool { return errors.Is(err, target) }
 // storeOutputs verifies a demo card in-process and returns its job id and
 // the bytes the store keeps (copies of one verification per card: the
 // outputs are the same every time, stamped with a fixed time).
-func storeOutputs(t *testing.T, file string) (id string, rec, card []byte) {
+func storeOutputs(t testing.TB, file string) (id string, rec, card []byte) {
 	t.Helper()
 	type outputs struct {
 		id        string

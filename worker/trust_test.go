@@ -5,9 +5,11 @@ import (
 	"context"
 	"crypto/ed25519"
 	"encoding/json"
+	"fmt"
 	"log/slog"
 	"net/http"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"strings"
 	"sync"
@@ -18,6 +20,7 @@ import (
 
 	"matgate/checks"
 	"matgate/schema"
+	"matgate/worker/redistest"
 )
 
 var testPub = testKey.Public().(ed25519.PublicKey)
@@ -491,5 +494,80 @@ func TestPoisonCard(t *testing.T) {
 	}
 	if ok, _ := s.rdb.Exists(ctx, recordKey(id)).Result(); ok != 1 {
 		t.Errorf("no record after a run that returned")
+	}
+}
+
+// TestPoisonKilledWorkers kills real worker processes (SIGKILL, as the
+// out-of-memory killer does) in the middle of a slow card, PoisonLimit
+// times: asynq hands the task to the next worker after each death (its
+// lease runs out), and the delivery after the last death fails the job
+// as poison without running it. A long test: each recovery takes asynq
+// 30 to 90 s.
+func TestPoisonKilledWorkers(t *testing.T) {
+	longTest(t)
+	r := redistest.Start(t)
+	s := newQueueStack(t, r, false)
+	c := prepareTestCard(t, "slow.yaml", slowCard(t))
+	task, id, err := NewVerifyTask(c, Settings{ToolVersion: testTool.Version}, TaskTimeout(DefaultBudget))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := s.client.Enqueue(task); err != nil {
+		t.Fatal(err)
+	}
+	ctx := context.Background()
+	for death := 1; death <= PoisonLimit; death++ {
+		proc := exec.Command(os.Args[0], "-test.run=^$")
+		proc.Env = append(os.Environ(), helperEnv+"="+r.Addr)
+		proc.Stderr = os.Stderr
+		if err := proc.Start(); err != nil {
+			t.Fatal(err)
+		}
+		waitProgress(t, fmt.Sprintf("run %d started in a worker process", death), 3*time.Minute, func() (int, int) {
+			if n, _ := s.rdb.Get(ctx, runsKey(id)).Int(); n == death {
+				return 1, 1
+			}
+			return 0, 1
+		}, func() string {
+			info, err := s.insp.GetTaskInfo(QueueVerify, id)
+			return fmt.Sprintf("task %+v %v", info, err)
+		})
+		proc.Process.Kill()
+		proc.Wait()
+		t.Logf("worker process killed during run %d", death)
+	}
+	s.startWorker(t)
+	waitProgress(t, "the job failed as poison", 3*time.Minute, func() (int, int) {
+		if info, err := s.insp.GetTaskInfo(QueueVerify, id); err == nil && info.State == asynq.TaskStateArchived {
+			return 1, 1
+		}
+		return 0, 1
+	}, func() string { return "" })
+	info, _ := s.insp.GetTaskInfo(QueueVerify, id)
+	if !strings.Contains(info.LastErr, "poison card: 3 runs of this card ended without a result") {
+		t.Errorf("last error %q", info.LastErr)
+	}
+	if f, err := ReadFailure(ctx, s.rdb, id); err != nil || f == nil || f.Kind != FailurePoison {
+		t.Errorf("failure: %+v %v", f, err)
+	}
+	if n, _ := s.rdb.Exists(ctx, recordKey(id)).Result(); n != 0 {
+		t.Errorf("the poison card has a record")
+	}
+}
+
+// BenchmarkAdmit is serve's cost per record of checking a worker's
+// outputs and signing the record (admit), which the materializer pays
+// once per record, one record at a time.
+func BenchmarkAdmit(b *testing.B) {
+	for _, f := range demoCards {
+		id, rec, card := storeOutputs(b, f)
+		b.Run(f, func(b *testing.B) {
+			b.SetBytes(int64(len(rec)))
+			for b.Loop() {
+				if _, err := admit(id, rec, card, testKey); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
 	}
 }
