@@ -98,6 +98,14 @@ func (s *DirStore) AppendCheckpoint(key ed25519.PrivateKey, now time.Time) (Chec
 		if err != nil && !errors.Is(err, fs.ErrNotExist) {
 			return c, false, fmt.Errorf("checkpoint: %w", err)
 		}
+		if cut := bytes.LastIndexByte(b, '\n') + 1; cut < len(b) {
+			// A torn last line (a crash or a full disk during an
+			// append): cut off, so that the next line starts clean.
+			if err := s.truncateFile(CheckpointsName, int64(cut)); err != nil {
+				return c, false, fmt.Errorf("checkpoint: cut off a torn last line: %w", err)
+			}
+			b = b[:cut]
+		}
 		s.cpSeq = 0
 		if cps, err := ParseCheckpoints(b); err == nil && len(cps) > 0 {
 			s.cpSeq = cps[len(cps)-1].Seq
@@ -122,6 +130,7 @@ func (s *DirStore) AppendCheckpoint(key ed25519.PrivateKey, now time.Time) (Chec
 		err = cerr
 	}
 	if err != nil {
+		s.cpSeq = -1 // read again, and cut what this append may have torn
 		return c, false, fmt.Errorf("checkpoint: %w", err)
 	}
 	s.cpSeq = c.Seq
@@ -174,4 +183,16 @@ func checkCheckpoint(hashes []string, c Checkpoint) error {
 		return fmt.Errorf("%s: line %d has sha256 %s, the checkpoint says %s: the ledger was rewritten up to line %d", c.String(), c.Seq, hashes[c.Seq-1], c.Head, c.Seq)
 	}
 	return nil
+}
+
+func (s *DirStore) truncateFile(name string, size int64) error {
+	f, err := s.root.OpenFile(name, os.O_WRONLY, 0)
+	if err != nil {
+		return err
+	}
+	err = f.Truncate(size)
+	if err == nil {
+		err = f.Sync()
+	}
+	return errors.Join(err, f.Close())
 }

@@ -571,3 +571,25 @@ func BenchmarkAdmit(b *testing.B) {
 		})
 	}
 }
+
+// TestCheckpointTornLine: a checkpoint append that a crash tore is cut off
+// before the next one, so checkpoints.jsonl stays a file of whole lines.
+func TestCheckpointTornLine(t *testing.T) {
+	dir, _ := signedStore(t)
+	torn := []byte(`{"format":"matgate.checkpoint/1","seq":2,"he`)
+	if err := os.WriteFile(filepath.Join(dir, CheckpointsName), torn, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	s, err := OpenStore(dir, StoreOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer s.Close()
+	if _, wrote, err := s.AppendCheckpoint(testKey, time.Now()); !wrote || err != nil {
+		t.Fatalf("checkpoint after a torn line: %v %v", wrote, err)
+	}
+	b, _ := os.ReadFile(filepath.Join(dir, CheckpointsName))
+	if cps, err := ParseCheckpoints(b); err != nil || len(cps) != 1 || cps[0].Seq != 3 {
+		t.Errorf("%s after the cut: %v %+v\n%s", CheckpointsName, err, cps, b)
+	}
+}
