@@ -3,6 +3,7 @@ package worker
 import (
 	"bytes"
 	"context"
+	"crypto/ed25519"
 	"errors"
 	"os"
 	"path/filepath"
@@ -103,7 +104,7 @@ func TestDirStorePutIdempotent(t *testing.T) {
 // TestLedgerVerify damages an intact directory in each of the ways an
 // auditor must see and checks that ledger verify reports the first break.
 func TestLedgerVerify(t *testing.T) {
-	build := storeDemoCards
+	build := func(t *testing.T) (string, []string) { return storeDemoCards(t, nil) }
 	dir, _ := build(t)
 	if rep, err := VerifyLedger(dir, nil); err != nil || rep.Break != nil || rep.Entries != 3 || rep.Files != 6 {
 		t.Fatalf("intact directory: %+v %v", rep, err)
@@ -170,8 +171,9 @@ func TestLedgerVerify(t *testing.T) {
 }
 
 // storeDemoCards returns a records directory holding the demo cards'
-// outputs, and their ids.
-func storeDemoCards(t *testing.T) (string, []string) {
+// outputs, stored as serve stores them (admit; signed with key unless it
+// is nil), and their ids.
+func storeDemoCards(t *testing.T, key ed25519.PrivateKey) (string, []string) {
 	t.Helper()
 	dir := t.TempDir()
 	s, err := OpenDirStore(dir)
@@ -182,7 +184,11 @@ func storeDemoCards(t *testing.T) (string, []string) {
 	var ids []string
 	for _, f := range demoCards {
 		id, rec, card := storeOutputs(t, f)
-		if _, err := putJSON(t, s, id, rec, card); err != nil {
+		a, err := admit(id, rec, card, key)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, err := s.Put(id, a.meta, a.record, card); err != nil {
 			t.Fatal(err)
 		}
 		ids = append(ids, id)

@@ -354,7 +354,7 @@ func TestLedgerVerifyAgainstRecords(t *testing.T) {
 		{"digest", func(e *LedgerEntry) { e.Digest = "sha256:" + strings.Repeat("0", 64) }, "ledger.jsonl:2: the line says digest sha256:000"},
 		{"card digest", func(e *LedgerEntry) { e.CardDigest = "sha256:" + strings.Repeat("1", 64) }, "ledger.jsonl:2: the line says card_digest sha256:111"},
 	}
-	dir, _ := storeDemoCards(t)
+	dir, _ := storeDemoCards(t, nil)
 	intact, _ := os.ReadFile(filepath.Join(dir, LedgerName))
 	for _, tc := range tests {
 		// Edit line 2 and recompute prev of every line, as someone who

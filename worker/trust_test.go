@@ -160,31 +160,6 @@ func TestForgedOutputsRefused(t *testing.T) {
 	}
 }
 
-// signedStore returns a records directory holding the demo cards'
-// outputs, signed as serve stores them, and its ids.
-func signedStore(t *testing.T) (string, []string) {
-	t.Helper()
-	dir := t.TempDir()
-	s, err := OpenDirStore(dir)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer s.Close()
-	var ids []string
-	for _, f := range demoCards {
-		id, rec, card := storeOutputs(t, f)
-		a, err := admit(id, rec, card, testKey)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if _, err := s.Put(id, a.meta, a.record, card); err != nil {
-			t.Fatal(err)
-		}
-		ids = append(ids, id)
-	}
-	return dir, ids
-}
-
 // rechain writes lines as the ledger of dir, with seq and prev recomputed,
 // as someone who rewrites the ledger would.
 func rechain(t *testing.T, dir string, lines []LedgerEntry) {
@@ -208,7 +183,7 @@ func rechain(t *testing.T, dir string, lines []LedgerEntry) {
 // checkpoint edited to match a rewritten ledger fails its signature.
 // Records must carry serve's signature when --public-key is given.
 func TestCheckpoints(t *testing.T) {
-	dir, ids := signedStore(t)
+	dir, ids := storeDemoCards(t, testKey)
 	s, err := OpenStore(dir, StoreOptions{})
 	if err != nil {
 		t.Fatal(err)
@@ -507,14 +482,7 @@ func TestPoisonKilledWorkers(t *testing.T) {
 	longTest(t)
 	r := redistest.Start(t)
 	s := newQueueStack(t, r, false)
-	c := prepareTestCard(t, "slow.yaml", slowCard(t))
-	task, id, err := NewVerifyTask(c, Settings{ToolVersion: testTool.Version}, TaskTimeout(DefaultBudget))
-	if err != nil {
-		t.Fatal(err)
-	}
-	if _, err := s.client.Enqueue(task); err != nil {
-		t.Fatal(err)
-	}
+	id := enqueueSlowCard(t, s)
 	ctx := context.Background()
 	for death := 1; death <= PoisonLimit; death++ {
 		proc := exec.Command(os.Args[0], "-test.run=^$")
@@ -575,7 +543,7 @@ func BenchmarkAdmit(b *testing.B) {
 // TestCheckpointTornLine: a checkpoint append that a crash tore is cut off
 // before the next one, so checkpoints.jsonl stays a file of whole lines.
 func TestCheckpointTornLine(t *testing.T) {
-	dir, _ := signedStore(t)
+	dir, _ := storeDemoCards(t, testKey)
 	torn := []byte(`{"format":"matgate.checkpoint/1","seq":2,"he`)
 	if err := os.WriteFile(filepath.Join(dir, CheckpointsName), torn, 0o644); err != nil {
 		t.Fatal(err)
