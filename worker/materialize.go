@@ -124,13 +124,43 @@ func (m *Materializer) refuse(ctx context.Context, id string, why error) error {
 	if _, err := pipe.Exec(ctx); err != nil {
 		return fmt.Errorf("recording the refusal (%v): %w", why, err)
 	}
-	if m.Inspector != nil {
-		if err := m.Inspector.DeleteTask(QueueVerify, id); err != nil && !errors.Is(err, asynq.ErrTaskNotFound) && !errors.Is(err, asynq.ErrQueueNotFound) {
-			m.log().Warn("store: the refused job's verification task stays; a resubmission answers with it", "id", id, "err", err)
-		}
-	}
+	m.removeVerifyTask(ctx, id)
 	return why
 }
+
+// removeVerifyTask removes the verification task of a job whose outputs
+// were refused, so that a resubmission runs it again. A worker that wrote
+// the outputs may still be finishing the task (it enqueues the
+// materialize task before it returns): an active task is waited for, up
+// to activeWait; a task still active then is a genuine run that someone
+// raced, and it stays.
+func (m *Materializer) removeVerifyTask(ctx context.Context, id string) {
+	if m.Inspector == nil {
+		return
+	}
+	deadline := time.Now().Add(activeWait)
+	for {
+		err := m.Inspector.DeleteTask(QueueVerify, id)
+		if err == nil || errors.Is(err, asynq.ErrTaskNotFound) || errors.Is(err, asynq.ErrQueueNotFound) {
+			return
+		}
+		info, ierr := m.Inspector.GetTaskInfo(QueueVerify, id)
+		if ierr != nil || info.State != asynq.TaskStateActive || time.Now().After(deadline) {
+			m.log().Warn("store: the refused job's verification task stays; a resubmission answers with it", "id", id, "err", err)
+			return
+		}
+		select {
+		case <-ctx.Done():
+			return
+		case <-time.After(20 * time.Millisecond):
+		}
+	}
+}
+
+// activeWait bounds how long serve waits for the verification task of a
+// refused job to finish; a worker returns within milliseconds of
+// enqueueing the materialize task.
+const activeWait = 10 * time.Second
 
 func (m *Materializer) expire(ctx context.Context, id string) error {
 	pipe := m.Redis.TxPipeline()

@@ -5,6 +5,7 @@ import (
 	"context"
 	"crypto/ed25519"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"log/slog"
 	"net/http"
@@ -138,6 +139,39 @@ func TestForgedOutputsRefused(t *testing.T) {
 			t.Errorf("%s: no log line of the refusal:\n%s", tc.name, log.String())
 		}
 	}
+	// A compromised worker: it writes another card's record as the job's
+	// and hands it to serve while its task is still active.
+	compromised := asynq.NewServerFromRedisClient(s.rdb, asynq.Config{Concurrency: 1, Queues: map[string]int{QueueVerify: 1},
+		TaskCheckInterval: 20 * time.Millisecond, LogLevel: asynq.FatalLevel})
+	mux := asynq.NewServeMux()
+	mux.HandleFunc(TypeVerify, func(ctx context.Context, task *asynq.Task) error {
+		s.rdb.Set(ctx, recordKey(id), otherRec, 0)
+		s.rdb.Set(ctx, cardKey(id), otherCard, 0)
+		if _, err := s.client.Enqueue(newMaterializeTask(id, 0)); err != nil {
+			return err
+		}
+		time.Sleep(300 * time.Millisecond) // still active while serve refuses
+		return nil
+	})
+	if err := compromised.Start(mux); err != nil {
+		t.Fatal(err)
+	}
+	if resp, _ := s.submitFile(t, file); resp.StatusCode != http.StatusAccepted {
+		t.Fatalf("submit to the compromised worker: %d", resp.StatusCode)
+	}
+	waitProgress(t, "the compromised worker's job failed and its task removed", 30*time.Second, func() (int, int) {
+		_, err := s.insp.GetTaskInfo(QueueVerify, id)
+		f, _ := ReadFailure(context.Background(), s.rdb, id)
+		if errors.Is(err, asynq.ErrTaskNotFound) && f != nil {
+			return 1, 1
+		}
+		return 0, 1
+	}, func() string { return log.String() })
+	compromised.Shutdown()
+	if j := s.waitJob(t, id, time.Second); j.State != JobFailed || !strings.Contains(j.LastError, "which is job") || s.store.Has(id) {
+		t.Errorf("the compromised worker's job: %+v", j)
+	}
+
 	// The genuine run after the refusals.
 	s.startWorker(t)
 	resp, j := s.submitFile(t, file)
