@@ -16,6 +16,20 @@ type Result struct {
 	Findings []Finding `json:"findings,omitempty"`
 }
 
+// VerdictOf is the verdict of cases: "pass" when every check passes,
+// else "fail". A record's verdict is this of its cases, which lets a
+// reader recompute it.
+func VerdictOf(cases []Case) string {
+	for i := range cases {
+		for j := range cases[i].Checks {
+			if !cases[i].Checks[j].Pass {
+				return "fail"
+			}
+		}
+	}
+	return "pass"
+}
+
 // Settings is everything needed to reproduce a Result: the resolved Spec
 // (without the material, which the record's card carries) and the numerical
 // settings of every case.

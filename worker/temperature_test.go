@@ -101,11 +101,13 @@ func TestTemperatureCardVerify(t *testing.T) {
 	if d := cmp.Diff(want, names); d != "" {
 		t.Errorf("cases beyond the tabulated temperatures (-want +got)\n%s", d)
 	}
-	html, err := report.Render(rec)
+	html, err := report.Render(rec, report.Written{Stress: "MPa"})
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, w := range []string{"Response at each temperature", "monotonic tension at each temperature", "(monotonic-tension, at 673.15 K)", "(temperature-interpolation, at 423.15 K)"} {
+	for _, w := range []string{"Response at each temperature", "monotonic tension at each temperature",
+		`at-673.15K/monotonic-tension <span class="muted small">monotonic-tension</span> <span class="muted small">at 673.15 K</span>`,
+		`<span class="muted small">at 423.15 K</span>`} {
 		if !strings.Contains(string(html), w) {
 			t.Errorf("the report lacks %q", w)
 		}

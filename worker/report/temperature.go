@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"html/template"
 
-	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 
@@ -13,11 +12,10 @@ import (
 
 // temperaturePlot draws the monotonic tension of a temperature-dependent
 // card's record at each of its temperatures in one plot, one line a
-// temperature; "" for a record of one temperature.
-func temperaturePlot(rec *checks.Record) (template.HTML, error) {
-	p := plot.New()
-	p.Title.Text = "monotonic tension at each temperature"
-	p.X.Label.Text, p.Y.Label.Text = "strain", "stress (MPa)"
+// temperature, in the display's units; "" for a record of one
+// temperature.
+func temperaturePlot(rec *checks.Record, u display) (template.HTML, error) {
+	p := newPlot("monotonic tension at each temperature", "strain (%)", "stress ("+u.Unit+")")
 	n := 0
 	for _, c := range rec.Cases {
 		if c.Temperature == nil || c.Kind != "monotonic-tension" || len(c.Series) < 2 {
@@ -25,14 +23,14 @@ func temperaturePlot(rec *checks.Record) (template.HTML, error) {
 		}
 		xy := make(plotter.XYs, 0, len(c.Series))
 		for _, s := range c.Series {
-			xy = append(xy, plotter.XY{X: s.Strain, Y: s.Stress / 1e6})
+			xy = append(xy, plotter.XY{X: 100 * s.Strain, Y: s.Stress / u.Pa})
 		}
 		line, err := plotter.NewLine(xy)
 		if err != nil {
 			return "", err
 		}
 		line.Color = inkOverlay[n%len(inkOverlay)]
-		line.Width = vg.Points(1.2)
+		line.Width = vg.Points(1.1)
 		if k := n / len(inkOverlay); k > 0 { // more temperatures than colours: dashed
 			line.Dashes = []vg.Length{vg.Points(float64(2 * k)), vg.Points(float64(2 * k))}
 		}
@@ -43,7 +41,13 @@ func temperaturePlot(rec *checks.Record) (template.HTML, error) {
 	if n < 2 {
 		return "", nil
 	}
-	p.Legend.Top, p.Legend.Left = true, true
-	p.Add(plotter.NewGrid())
 	return inlineSVG(p)
+}
+
+// temperatureText says at which temperature a case ran, "" for none.
+func temperatureText(c *checks.Case) string {
+	if c.Temperature == nil {
+		return ""
+	}
+	return fmt.Sprintf("at %g K", *c.Temperature)
 }
