@@ -107,7 +107,9 @@ func TestTemperatureCardVerify(t *testing.T) {
 	}
 	for _, w := range []string{"Response at each temperature", "monotonic tension at each temperature",
 		`at-673.15K/monotonic-tension <span class="muted small">monotonic-tension</span> <span class="muted small">at 673.15 K</span>`,
-		`<span class="muted small">at 423.15 K</span>`} {
+		`<span class="muted small">at 423.15 K</span>`,
+		"210000, 205000, 195000, 185000, 170000", // E at each temperature, in the card's MPa
+		"293.15, 373.15, 473.15, 573.15, 673.15 K"} {
 		if !strings.Contains(string(html), w) {
 			t.Errorf("the report lacks %q", w)
 		}

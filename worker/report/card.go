@@ -31,28 +31,50 @@ func readCard(canonical json.RawMessage, u display) (cardView, error) {
 		return cardView{}, fmt.Errorf("canonical card: %w", err)
 	}
 	v := cardView{Title: c.Title, Source: c.Source}
+	// The canonical card is in kelvin; NIST SP 811 (2008) 4.2.1.1:
+	// t/°C = T/K - 273.15.
 	if c.Temperature != nil {
-		// The canonical card is in kelvin; NIST SP 811 (2008) 4.2.1.1:
-		// t/°C = T/K - 273.15.
 		v.Temperature = fmt.Sprintf("%s K (%s °C)", num(*c.Temperature), num(*c.Temperature-273.15))
 	}
-	stress := func(name, sym string, pa float64) param {
-		return param{Name: name, Symbol: sym, Value: num(pa / u.Pa), Unit: u.Unit}
+	if c.IsTemperatureDependent() {
+		k, cel := make([]string, len(c.Temperatures)), make([]string, len(c.Temperatures))
+		for i, T := range c.Temperatures {
+			k[i], cel[i] = strconv.FormatFloat(T, 'g', -1, 64), num(T-273.15)
+		}
+		v.Temperature = fmt.Sprintf("%s K (%s °C); parameters that change with temperature are listed at each, interpolated linearly between", strings.Join(k, ", "), strings.Join(cel, ", "))
 	}
-	plain := func(name, sym string, x float64) param {
-		return param{Name: name, Symbol: sym, Value: num(x)}
+	// value prints the parameter at pointer: its list at the card's
+	// temperatures when it has one, else x.
+	value := func(pointer string, x float64, f func(float64) string) string {
+		l, ok := c.Tabulated[pointer]
+		if !ok {
+			return f(x)
+		}
+		out := make([]string, len(l))
+		for i, y := range l {
+			out[i] = f(y)
+		}
+		return strings.Join(out, ", ")
+	}
+	stress := func(name, sym, pointer string, pa float64) param {
+		return param{Name: name, Symbol: sym, Value: value(pointer, pa, func(x float64) string { return num(x / u.Pa) }), Unit: u.Unit}
+	}
+	plain := func(name, sym, pointer string, x float64) param {
+		return param{Name: name, Symbol: sym, Value: value(pointer, x, num)}
 	}
 	v.Params = append(v.Params,
-		stress("Young's modulus", "E", c.Elastic.YoungsModulus),
-		plain("Poisson ratio", "ν", c.Elastic.PoissonRatio),
-		stress("yield stress", "σy", c.Plasticity.YieldStress))
+		stress("Young's modulus", "E", "/elastic/youngs_modulus", c.Elastic.YoungsModulus),
+		plain("Poisson ratio", "ν", "/elastic/poisson_ratio", c.Elastic.PoissonRatio),
+		stress("yield stress", "σy", "/plasticity/yield_stress", c.Plasticity.YieldStress))
 	var derived []schema.DerivedTerm
 	if c.Derived != nil {
 		derived = c.Derived.Kinematic
-		v.Params = append(v.Params, param{Name: "yield strain (derived)", Symbol: "σy/E", Value: pct(c.Derived.YieldStrain), Unit: "%"})
+		v.Params = append(v.Params, param{Name: "yield strain (derived)", Symbol: "σy/E", Value: value("/derived/yield_strain", c.Derived.YieldStrain, pct), Unit: "%"})
 	}
 	for i, t := range c.Plasticity.Kinematic {
 		term := "back stress " + strconv.Itoa(i+1)
+		at := "/plasticity/kinematic/" + strconv.Itoa(i) + "/"
+		dat := "/derived/kinematic/" + strconv.Itoa(i) + "/"
 		var d schema.DerivedTerm
 		if i < len(derived) {
 			d = derived[i]
@@ -60,19 +82,19 @@ func readCard(canonical json.RawMessage, u display) (cardView, error) {
 		switch t.Model {
 		case schema.ModelLinear:
 			if t.PlasticModulus != nil {
-				v.Params = append(v.Params, stress(term+", linear (Prager): plastic modulus", "H", *t.PlasticModulus))
+				v.Params = append(v.Params, stress(term+", linear (Prager): plastic modulus", "H", at+"plastic_modulus", *t.PlasticModulus))
 			}
 			if d.TangentModulus != nil {
-				v.Params = append(v.Params, stress(term+": tangent modulus (derived)", "Et", *d.TangentModulus))
+				v.Params = append(v.Params, stress(term+": tangent modulus (derived)", "Et", dat+"tangent_modulus", *d.TangentModulus))
 			}
 		case schema.ModelArmstrongFrederick:
 			if t.C != nil && t.Gamma != nil {
 				v.Params = append(v.Params,
-					stress(term+", Armstrong-Frederick: modulus", "C", *t.C),
-					plain(term+": dynamic recovery", "γ", *t.Gamma))
+					stress(term+", Armstrong-Frederick: modulus", "C", at+"c", *t.C),
+					plain(term+": dynamic recovery", "γ", at+"gamma", *t.Gamma))
 			}
 			if d.Saturation != nil {
-				v.Params = append(v.Params, stress(term+": saturation (derived)", "C/γ", *d.Saturation))
+				v.Params = append(v.Params, stress(term+": saturation (derived)", "C/γ", dat+"saturation", *d.Saturation))
 			}
 		}
 	}
@@ -80,16 +102,16 @@ func readCard(canonical json.RawMessage, u display) (cardView, error) {
 		switch is.Model {
 		case schema.ModelVoce:
 			if is.Q != nil && is.B != nil {
-				v.Params = append(v.Params, stress("isotropic, Voce: saturation", "Q", *is.Q), plain("isotropic, Voce: rate", "b", *is.B))
+				v.Params = append(v.Params, stress("isotropic, Voce: saturation", "Q", "/plasticity/isotropic/q", *is.Q), plain("isotropic, Voce: rate", "b", "/plasticity/isotropic/b", *is.B))
 			}
 		case schema.ModelLinear:
 			if is.Modulus != nil {
-				v.Params = append(v.Params, stress("isotropic, linear: modulus", "K", *is.Modulus))
+				v.Params = append(v.Params, stress("isotropic, linear: modulus", "K", "/plasticity/isotropic/modulus", *is.Modulus))
 			}
 		}
 	}
 	if c.Derived != nil && c.Derived.SaturationStress != nil {
-		v.Params = append(v.Params, stress("saturation stress (derived)", "σy + ΣC/γ + Q", *c.Derived.SaturationStress))
+		v.Params = append(v.Params, stress("saturation stress (derived)", "σy + ΣC/γ + Q", "/derived/saturation_stress", *c.Derived.SaturationStress))
 	}
 	if vs := c.Verification; vs != nil {
 		v.Sizing = append(v.Sizing, param{Name: "profile", Value: vs.Profile})
