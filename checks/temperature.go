@@ -204,9 +204,14 @@ func bracket(ctx context.Context, tb *plastic.Table, k int, lo, hi Spec) (Case, 
 		T    float64
 		hist []plastic.State1D
 	}{{Ta, ha}, {Tb, hb}} {
-		pts := make([][2]float64, len(n.hist))
+		// Every stride-th increment and the last: at most about maxSeries
+		// points, so that a long path does not swell the record.
+		stride := max(1, len(n.hist)/maxSeries)
+		var pts [][2]float64
 		for i, s := range n.hist {
-			pts[i] = [2]float64{s.Eps, s.Sigma}
+			if i%stride == 0 || i == len(n.hist)-1 {
+				pts = append(pts, [2]float64{s.Eps, s.Sigma})
+			}
 		}
 		c.Curves = append(c.Curves, Curve{Name: "at " + fmtG(n.T) + " K", Source: "the card at its tabulated temperature, integrated on the same path", Points: pts})
 	}
