@@ -84,7 +84,7 @@ func Verify(ctx context.Context, c *schema.Card, tool checks.Tool, created time.
 	if err != nil {
 		return nil, fmt.Errorf("record of %s: %w", c.ID, err)
 	}
-	card, err := convert.Indented(c)
+	card, err := convert.Indent(canon)
 	if err != nil {
 		return nil, err
 	}

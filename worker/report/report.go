@@ -48,7 +48,7 @@ func Render(rec *checks.Record) ([]byte, error) {
 				cv.Findings = append(cv.Findings, f)
 			}
 		}
-		if c.Skipped == "" && len(c.Series) > 1 {
+		if c.Skipped == "" && c.Series.Len() > 1 {
 			svg, err := plotCase(c, false)
 			if err != nil {
 				return nil, fmt.Errorf("plot %s: %w", c.Name, err)
@@ -71,7 +71,7 @@ func Render(rec *checks.Record) ([]byte, error) {
 }
 
 func hasShear(c checks.Case) bool {
-	for _, s := range c.Series {
+	for _, s := range c.Series.Samples() {
 		if s.ShearStrain != 0 || s.ShearStress != 0 {
 			return true
 		}
@@ -100,7 +100,7 @@ func buildPlot(c checks.Case, shear bool) (*plot.Plot, error) {
 	// One line per run of consecutive samples: a Gap sample starts a new
 	// one, so increments left out of the series are not drawn across.
 	var runs []plotter.XYs
-	for i, s := range c.Series {
+	for i, s := range c.Series.Samples() {
 		if i == 0 || s.Gap {
 			runs = append(runs, nil)
 		}
