@@ -10,6 +10,7 @@ import (
 	"errors"
 	"fmt"
 	"reflect"
+	"slices"
 	"strings"
 	"time"
 )
@@ -289,4 +290,56 @@ func (s *Series) UnmarshalJSON(b []byte) error {
 	}
 	*s = Series(c)
 	return s.validate()
+}
+
+// Reproduces reports whether rerun, the record of a verification run again
+// from r's card with r's tool and created, has r's content: card,
+// settings, every case and check, findings and verdict. A record of
+// RecordFormat must have the same digest. A RecordFormatV1 record kept
+// every increment of its series that the thinning of RecordFormat leaves
+// out, so each series of rerun must be a subsequence of r's and the rest
+// must have r's digest.
+func (r *Record) Reproduces(rerun *Record) (bool, error) {
+	want, err := r.ComputeDigest()
+	if err != nil {
+		return false, err
+	}
+	if r.Format == RecordFormatV1 {
+		if len(rerun.Cases) != len(r.Cases) {
+			return false, nil
+		}
+		c := *rerun
+		c.Format = RecordFormatV1
+		c.Cases = slices.Clone(rerun.Cases)
+		for i := range c.Cases {
+			if !isSubsequence(c.Cases[i].Series.Samples(), r.Cases[i].Series.Samples()) {
+				return false, nil
+			}
+			c.Cases[i].Series = r.Cases[i].Series
+		}
+		rerun = &c
+	}
+	got, err := rerun.ComputeDigest()
+	return err == nil && got == want, err
+}
+
+// isSubsequence reports whether every sample of sub is in all, in order
+// (the gap marks aside, which thinning moves).
+func isSubsequence(sub, all []Sample) bool {
+	j := 0
+	for _, s := range sub {
+		s.Gap = false
+		for {
+			if j == len(all) {
+				return false
+			}
+			a := all[j]
+			a.Gap = false
+			j++
+			if a == s {
+				break
+			}
+		}
+	}
+	return true
 }
