@@ -138,8 +138,12 @@ func (s *Series) Len() int {
 	return len(s.Strain)
 }
 
-// Samples returns the samples of s as rows, for plots.
+// Samples returns the samples of s as rows, for plots; nil for a nil
+// series.
 func (s *Series) Samples() []Sample {
+	if s == nil {
+		return nil
+	}
 	n := s.Len()
 	out := make([]Sample, n)
 	for i := range out {
