@@ -3,8 +3,8 @@ package main
 import (
 	"bytes"
 	"compress/gzip"
-	"io"
 	"encoding/json"
+	"io"
 	"os"
 	"path/filepath"
 	"strings"
