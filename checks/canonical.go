@@ -346,6 +346,10 @@ func appendES6Number(out []byte, v float64) ([]byte, error) {
 	if v == 0 {
 		return append(out, '0'), nil // -0 too
 	}
+	// An integer below 2^53 is exact in both forms and written plain.
+	if v == math.Trunc(v) && math.Abs(v) < 1<<53 {
+		return strconv.AppendInt(out, int64(v), 10), nil
+	}
 	if v < 0 {
 		out = append(out, '-')
 		v = -v
@@ -414,7 +418,7 @@ func quoteCanonical[S ~string | ~[]byte](out []byte, s S) []byte {
 	start := 0
 	for i := 0; i < len(s); i++ {
 		ch := s[i]
-		if ch >= 0x20 && ch != '"' && ch != '\\' {
+		if !needsEscape[ch] {
 			continue
 		}
 		out = append(out, s[start:i]...)
@@ -439,6 +443,15 @@ func quoteCanonical[S ~string | ~[]byte](out []byte, s S) []byte {
 	out = append(out, s[start:]...)
 	return append(out, '"')
 }
+
+// needsEscape marks the bytes quoteCanonical escapes.
+var needsEscape = func() (t [256]bool) {
+	for ch := range 0x20 {
+		t[ch] = true
+	}
+	t['"'], t['\\'] = true, true
+	return t
+}()
 
 // compareUTF16 orders strings by their UTF-16 code units, as RFC 8785
 // sorts member names. For names below U+D800 (all of ours) this is the
@@ -472,6 +485,11 @@ type encoder struct {
 	// seriesRows writes a *Series as matgate.record/1 did: an array of
 	// sample objects instead of columns.
 	seriesRows bool
+	// mark names a member of the outermost object: markAt is where it
+	// is, or would be when left out, in out (before its comma).
+	mark   string
+	markAt int
+	depth  int
 }
 
 var (
@@ -573,6 +591,7 @@ func (e *encoder) float(x float64) error {
 // canonical order.
 type field struct {
 	index     int
+	name      string
 	key       []byte // "name":
 	omitEmpty bool
 }
@@ -612,7 +631,7 @@ func fieldsOf(t reflect.Type) ([]field, error) {
 			}
 		}
 		key := quoteCanonical(nil, []byte(name))
-		fs = append(fs, field{index: i, key: append(key, ':'), omitEmpty: omit})
+		fs = append(fs, field{index: i, name: name, key: append(key, ':'), omitEmpty: omit})
 		names = append(names, []byte(name))
 	}
 	order := make([]int, len(fs))
@@ -634,8 +653,13 @@ func (e *encoder) object(v reflect.Value) error {
 		return err
 	}
 	e.out = append(e.out, '{')
+	e.depth++
+	defer func() { e.depth-- }()
 	first := true
 	for _, f := range fs {
+		if e.depth == 1 && f.name == e.mark {
+			e.markAt = len(e.out)
+		}
 		fv := v.Field(f.index)
 		if f.omitEmpty && isEmptyValue(fv) {
 			continue

@@ -137,7 +137,8 @@ func checkAgainstJCS(t *testing.T, what string, raw []byte) {
 
 // TestCanonicalRecords: the record encoder (Record.MarshalJSON) writes
 // the bytes gowebpki/jcs makes of what encoding/json writes of the same
-// record, for the demo-like cards' records in both formats, signed and not.
+// record, for the demo-like cards' records in both formats, signed and
+// not, and NewRecordJSON's bytes (the digest put into place) are the same.
 func TestCanonicalRecords(t *testing.T) {
 	key := ed25519.NewKeyFromSeed(make([]byte, ed25519.SeedSize))
 	for _, d := range demoSpecs(t) {
@@ -145,11 +146,14 @@ func TestCanonicalRecords(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		rec, err := NewRecord(res, RecordCard{ID: "x", Revision: 1, Digest: "sha256:0", Canonical: []byte(`{"a":1,"b":[1e-7,"é"]}`)}, Tool{Version: "test"}, time.Unix(0, 0).UTC())
+		rec, b, err := NewRecordJSON(res, RecordCard{ID: "x", Revision: 1, Digest: "sha256:0", Canonical: []byte(`{"a":1,"b":[1e-7,"é"]}`)}, Tool{Version: "test"}, time.Unix(0, 0).UTC())
 		if err != nil {
 			t.Fatal(err)
 		}
 		checkEncoder(t, d.name, rec)
+		if again, err := rec.MarshalJSON(); err != nil || !bytes.Equal(b, again) {
+			t.Errorf("%s: NewRecordJSON's bytes differ from MarshalJSON's (%v)", d.name, err)
+		}
 		if err := rec.Sign(key); err != nil {
 			t.Fatal(err)
 		}

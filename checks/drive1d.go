@@ -302,9 +302,10 @@ func thin(rows []Sample, limit int) *Series {
 		}
 	}
 	kept := make([]bool, len(rows))
+	n := 0
 	for tol := thinTol; ; tol *= 2 {
 		clear(kept)
-		n := 0
+		n = 0
 		for a := 0; a < len(rows); {
 			b := a + 1
 			for b < len(rows) && !rows[b].Gap {
@@ -318,6 +319,7 @@ func thin(rows []Sample, limit int) *Series {
 		}
 	}
 	s := &Series{}
+	s.grow(n)
 	for i := range rows {
 		if kept[i] {
 			s.append(rows[i], rows[i].Gap)

@@ -12,6 +12,7 @@ import (
 	"reflect"
 	"slices"
 	"strings"
+	"sync"
 	"time"
 )
 
@@ -85,21 +86,29 @@ var (
 // signature. Two records of the same Result differ only in created and so
 // in the digest.
 func NewRecord(res *Result, card RecordCard, tool Tool, created time.Time) (*Record, error) {
+	r, _, err := NewRecordJSON(res, card, tool, created)
+	return r, err
+}
+
+// NewRecordJSON is NewRecord that also returns the record's JSON (as
+// MarshalJSON writes it) from the one encoding that its digest is
+// computed from: the digest member is put into place in those bytes.
+func NewRecordJSON(res *Result, card RecordCard, tool Tool, created time.Time) (*Record, []byte, error) {
 	if res == nil {
-		return nil, fmt.Errorf("%w: no result", ErrBadRecord)
+		return nil, nil, fmt.Errorf("%w: no result", ErrBadRecord)
 	}
 	if len(card.Canonical) == 0 {
-		return nil, fmt.Errorf("%w: card %s has no canonical form", ErrBadRecord, card.ID)
+		return nil, nil, fmt.Errorf("%w: card %s has no canonical form", ErrBadRecord, card.ID)
 	}
 	if !json.Valid(card.Canonical) {
-		return nil, fmt.Errorf("%w: canonical form of card %s is not valid JSON", ErrBadRecord, card.ID)
+		return nil, nil, fmt.Errorf("%w: canonical form of card %s is not valid JSON", ErrBadRecord, card.ID)
 	}
 	for _, c := range res.Cases {
 		if c.Series == nil {
 			continue
 		}
 		if err := c.Series.validate(); err != nil {
-			return nil, fmt.Errorf("%w: case %s: %w", ErrBadRecord, c.Name, err)
+			return nil, nil, fmt.Errorf("%w: case %s: %w", ErrBadRecord, c.Name, err)
 		}
 	}
 	r := &Record{
@@ -113,12 +122,17 @@ func NewRecord(res *Result, card RecordCard, tool Tool, created time.Time) (*Rec
 		Findings: res.Findings,
 		Caution:  Caution,
 	}
-	d, err := r.ComputeDigest()
-	if err != nil {
-		return nil, err
+	e := encoder{out: make([]byte, 0, 128<<10), mark: "digest"} // a demo record is 80-115 KB
+	if err := e.value(reflect.ValueOf(r).Elem()); err != nil {
+		return nil, nil, fmt.Errorf("%w: encode: %w", ErrBadRecord, err)
 	}
-	r.Digest = d
-	return r, nil
+	sum := sha256.Sum256(e.out)
+	r.Digest = "sha256:" + hex.EncodeToString(sum[:])
+	if e.markAt <= 1 {
+		panic("checks: the record's digest has no member before it") // "card" sorts first
+	}
+	b := slices.Insert(e.out, e.markAt, []byte(`,"digest":"`+r.Digest+`"`)...)
+	return r, b, nil
 }
 
 // ComputeDigest returns the digest of r as NewRecord defines it, ignoring
@@ -126,20 +140,31 @@ func NewRecord(res *Result, card RecordCard, tool Tool, created time.Time) (*Rec
 func (r *Record) ComputeDigest() (string, error) {
 	c := *r
 	c.Digest, c.Signature = "", nil
-	b, err := c.MarshalJSON()
+	buf := digestBuffers.Get().(*[]byte)
+	defer digestBuffers.Put(buf)
+	b, err := c.appendJSON((*buf)[:0])
 	if err != nil {
 		return "", err
 	}
+	*buf = b
 	sum := sha256.Sum256(b)
 	return "sha256:" + hex.EncodeToString(sum[:]), nil
 }
+
+// digestBuffers keeps the encoding buffers of ComputeDigest, which needs
+// the bytes only until they are hashed.
+var digestBuffers = sync.Pool{New: func() any { return new([]byte) }}
 
 // MarshalJSON returns the RFC 8785 (JSON Canonicalization Scheme)
 // encoding of r, written directly from its fields: series by column, or as
 // sample objects in a RecordFormatV1 record.
 func (r Record) MarshalJSON() ([]byte, error) {
-	e := encoder{out: make([]byte, 0, 64<<10), seriesRows: r.Format == RecordFormatV1}
-	if err := e.value(reflect.ValueOf(&r).Elem()); err != nil {
+	return r.appendJSON(make([]byte, 0, 128<<10)) // a demo record is 80-115 KB
+}
+
+func (r *Record) appendJSON(out []byte) ([]byte, error) {
+	e := encoder{out: out, seriesRows: r.Format == RecordFormatV1}
+	if err := e.value(reflect.ValueOf(r).Elem()); err != nil {
 		return nil, fmt.Errorf("%w: encode: %w", ErrBadRecord, err)
 	}
 	return e.out, nil

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 )
 
 // Result is the outcome of Run.
@@ -159,6 +160,13 @@ func (s *Series) Samples() []Sample {
 		out[g].Gap = true
 	}
 	return out
+}
+
+// grow makes room for n more samples.
+func (s *Series) grow(n int) {
+	for _, col := range []*[]float64{&s.Strain, &s.Stress, &s.PlasticStrain, &s.BackStress, &s.P, &s.ShearStrain, &s.ShearStress} {
+		*col = slices.Grow(*col, n)
+	}
 }
 
 // append adds one sample; gap marks it as following left-out increments.

@@ -115,11 +115,7 @@ func (h *Handler) ProcessTask(ctx context.Context, t *asynq.Task) error {
 			return fmt.Errorf("verify task %s: %w: %w", id, err, asynq.SkipRetry)
 		}
 		meta = MetaOf(out.Record)
-		rec, err := RecordJSON(out.Record)
-		if err != nil {
-			return fmt.Errorf("verify task %s: %w: %w", id, err, asynq.SkipRetry)
-		}
-		if err := putOutputs.Run(ctx, h.Redis, []string{recordKey(id), cardKey(id)}, rec, out.Card).Err(); err != nil {
+		if err := putOutputs.Run(ctx, h.Redis, []string{recordKey(id), cardKey(id)}, out.RecordJSON, out.Card).Err(); err != nil {
 			return fmt.Errorf("verify task %s: write outputs: %w", id, err)
 		}
 	}

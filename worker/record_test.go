@@ -19,7 +19,8 @@ import (
 
 // TestRecordBytesAgainstJCS: the stored bytes of the records of the demo
 // cards and of random plausible cards (worker/cardspace, seed 8785) are
-// the RFC 8785 encoding of the record: gowebpki/jcs, an independent
+// the RFC 8785 encoding of the record, as Verify makes them and as
+// RecordJSON makes them again: gowebpki/jcs, an independent
 // implementation, gives the same bytes from encoding/json's text of the
 // same record; they read back, their digest holds, and the neutral card
 // indented from the canonical form is the card's indented canonical form.
@@ -49,11 +50,14 @@ func TestRecordBytesAgainstJCS(t *testing.T) {
 		if err != nil {
 			t.Fatalf("%s: %v", in.name, err)
 		}
-		b, err := RecordJSON(out.Record)
+		again, err := RecordJSON(out.Record)
 		if err != nil {
 			t.Fatal(err)
 		}
-		b = bytes.TrimSuffix(b, []byte("\n"))
+		if !bytes.Equal(out.RecordJSON, again) {
+			t.Errorf("%s: Outputs.RecordJSON differs from RecordJSON of the record", in.name)
+		}
+		b := bytes.TrimSuffix(out.RecordJSON, []byte("\n"))
 		type plain checks.Record // encoding/json's own encoding, not MarshalJSON
 		raw, err := json.Marshal((*plain)(out.Record))
 		if err != nil {
