@@ -49,8 +49,8 @@ type Outputs struct {
 	// it from one encoding; a change to Record (Sign) needs RecordJSON
 	// again.
 	RecordJSON []byte
-	Card   []byte          // the neutral card: the canonical card, indented JSON
-	Tables []convert.Table // tabulated curves of the neutral card
+	Card       []byte          // the neutral card: the canonical card, indented JSON
+	Tables     []convert.Table // tabulated curves of the neutral card
 	// Diagnoses say, for each reference curve, which usual misreading of
 	// the card explains its failure, or matches it far better than the card
 	// as written although it passes (see checks.Diagnose). The record's
