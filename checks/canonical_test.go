@@ -121,6 +121,12 @@ func checkAgainstJCS(t *testing.T, what string, raw []byte) {
 	if err != nil {
 		t.Fatalf("%s: %v", what, err)
 	}
+	sameAsJCS(t, what, got, raw)
+}
+
+// sameAsJCS reports where got differs from gowebpki/jcs's encoding of raw.
+func sameAsJCS(t *testing.T, what string, got, raw []byte) {
+	t.Helper()
 	want, err := jcs.Transform(raw)
 	if err != nil {
 		t.Fatalf("%s: jcs: %v", what, err)
@@ -203,18 +209,7 @@ func checkEncoder(t *testing.T, what string, rec *Record) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want, err := jcs.Transform(raw)
-	if err != nil {
-		t.Fatalf("%s: jcs: %v", what, err)
-	}
-	if !bytes.Equal(got, want) {
-		i := 0
-		for i < len(got) && i < len(want) && got[i] == want[i] {
-			i++
-		}
-		lo := max(0, i-60)
-		t.Errorf("%s: differs from gowebpki/jcs at byte %d:\n got %q\nwant %q", what, i, got[lo:min(len(got), i+60)], want[lo:min(len(want), i+60)])
-	}
+	sameAsJCS(t, what, got, raw)
 }
 
 // TestCanonicalRejects: what RFC 8785 has no canonical form for, and
