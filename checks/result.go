@@ -56,10 +56,9 @@ type Settings struct {
 // CaseSetting is the numerical setting of one case.
 type CaseSetting struct {
 	Case       string  `json:"case"`
-	Control    string  `json:"control"`             // "strain", "stress", "mixed"
-	Algorithm  string  `json:"algorithm,omitempty"` // when it differs from Settings.Algorithm
-	Increment  float64 `json:"increment"`           // max increment of the controlled quantity (Pa for stress)
-	Increments int     `json:"increments"`          // increments of the reported run
+	Control    string  `json:"control"`    // "strain", "stress", "mixed"
+	Increment  float64 `json:"increment"`  // max increment of the controlled quantity (Pa for stress)
+	Increments int     `json:"increments"` // increments of the reported run
 	Rerun      int     `json:"rerun_increments"`
 }
 

@@ -170,7 +170,7 @@ td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 <tr><th>profile, algorithm</th><td>{{.R.Settings.Profile}}, {{.R.Settings.Algorithm}}</td></tr>
 <tr><th>step-size rerun</th><td>{{.R.Settings.Refinement}}</td></tr>
 <tr><th>stabilized cycle</th><td>{{.Stabilized}}</td></tr>
-<tr><th>increments per case (in the rerun)</th><td>{{range $i, $c := .R.Settings.Cases}}{{if $i}}; {{end}}{{$c.Case}}: {{$c.Control}} control, {{$c.Increments}} ({{$c.Rerun}}){{with $c.Algorithm}}, algorithm {{.}}{{end}}{{end}}</td></tr>
+<tr><th>increments per case (in the rerun)</th><td>{{range $i, $c := .R.Settings.Cases}}{{if $i}}; {{end}}{{$c.Case}}: {{$c.Control}} control, {{$c.Increments}} ({{$c.Rerun}}){{end}}</td></tr>
 </table>
 </section>
 <p class="caution"><b>Caution.</b> {{.R.Caution}}</p>
