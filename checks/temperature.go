@@ -563,7 +563,7 @@ func thermoMechanical(phase float64) func(context.Context, *plastic.Table, []Spe
 
 // seriesT is the plotted series of an anisothermal history of a material
 // with n back-stress terms.
-func seriesT(hist []plastic.StateT1D, n int) []Sample {
+func seriesT(hist []plastic.StateT1D, n int) *Series {
 	return downsample(hist, maxSeries, func(st *plastic.StateT1D) Sample {
 		return Sample{Strain: st.Eps, Stress: st.Sigma, PlasticStrain: st.EpsP, BackStress: st.BackStress(n), P: st.P}
 	})

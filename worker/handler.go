@@ -131,11 +131,7 @@ func (h *Handler) ProcessTask(ctx context.Context, t *asynq.Task) error {
 		case err != nil:
 			return fmt.Errorf("verify task %s: %w: %w", id, err, asynq.SkipRetry)
 		}
-		rec, err := RecordJSON(out.Record)
-		if err != nil {
-			return fmt.Errorf("verify task %s: %w: %w", id, err, asynq.SkipRetry)
-		}
-		if err := putOutputs.Run(ctx, h.Redis, []string{recordKey(id), cardKey(id), failureKey(id)}, rec, out.Card).Err(); err != nil {
+		if err := putOutputs.Run(ctx, h.Redis, []string{recordKey(id), cardKey(id), failureKey(id)}, out.RecordJSON, out.Card).Err(); err != nil {
 			return fmt.Errorf("verify task %s: write outputs: %w", id, err)
 		}
 	}
@@ -146,10 +142,11 @@ func (h *Handler) ProcessTask(ctx context.Context, t *asynq.Task) error {
 	return nil
 }
 
-// RecordJSON is the byte form of a record in every store: indented JSON
-// and a newline, as matgate verify has always written it.
+// RecordJSON is the byte form of a record in every store and output: its
+// RFC 8785 encoding (compact JSON, the bytes its digest is computed from,
+// with the digest and signature) and a newline.
 func RecordJSON(r *checks.Record) ([]byte, error) {
-	b, err := json.MarshalIndent(r, "", "  ")
+	b, err := r.MarshalJSON()
 	if err != nil {
 		return nil, fmt.Errorf("encode record: %w", err)
 	}

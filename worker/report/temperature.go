@@ -18,11 +18,11 @@ func temperaturePlot(rec *checks.Record, u display) (template.HTML, error) {
 	p := newPlot("monotonic tension at each temperature", "strain (%)", "stress ("+u.Unit+")")
 	n := 0
 	for _, c := range rec.Cases {
-		if c.Temperature == nil || c.Kind != "monotonic-tension" || len(c.Series) < 2 {
+		if c.Temperature == nil || c.Kind != "monotonic-tension" || c.Series.Len() < 2 {
 			continue
 		}
-		xy := make(plotter.XYs, 0, len(c.Series))
-		for _, s := range c.Series {
+		xy := make(plotter.XYs, 0, c.Series.Len())
+		for _, s := range c.Series.Samples() {
 			xy = append(xy, plotter.XY{X: 100 * s.Strain, Y: s.Stress / u.Pa})
 		}
 		line, err := plotter.NewLine(xy)
