@@ -173,6 +173,9 @@ func verificationDefaults(n *schema.Card, given *schema.Verification, f float64,
 			if err != nil {
 				return nil, &FieldError{Pointer: ptrOf + "/file", Err: fmt.Errorf("read reference %q: %w", r.File, err)}
 			}
+			if err := checkReferenceSize(r.File, data); err != nil {
+				return nil, &FieldError{Pointer: ptrOf + "/file", Err: err}
+			}
 			if pts, err = ReadCurve(r.File, data); err != nil {
 				return nil, &FieldError{Pointer: ptrOf + "/file", Err: err}
 			}

@@ -414,7 +414,8 @@ func likelyUnit(E float64) string {
 
 // Prepare runs everything that follows the schema on a decoded card: the
 // plausibility checks, the recomputation of any derived block and digest the
-// card states, and Normalize. It returns the canonical card (nil when there
+// card states, Normalize, the sizing limits of the cases and the size rule
+// of the normalized card (see MaxReferenceBytes). It returns the canonical card (nil when there
 // are errors) and every diagnostic, warnings included.
 func Prepare(doc *schema.Document, opts *Options) (*schema.Card, schema.Diagnostics) {
 	ds := Plausibility(doc)
@@ -429,7 +430,7 @@ func Prepare(doc *schema.Document, opts *Options) (*schema.Card, schema.Diagnost
 		}
 		return nil, sortDiags(append(ds, doc.Diag(schema.SeverityError, "", "%v", err)))
 	}
-	ds = append(append(ds, checkStated(doc, n)...), Sizing(doc, n)...)
+	ds = append(append(append(ds, checkStated(doc, n)...), Sizing(doc, n)...), normalizedSize(doc, n)...)
 	if _, err := Material(n); err != nil {
 		ds = append(ds, doc.Diag(schema.SeverityError, "/plasticity", "the integrator cannot use these parameters: %v", err))
 	}

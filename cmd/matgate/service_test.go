@@ -232,7 +232,7 @@ func TestConfigLayers(t *testing.T) {
 		t.Fatal(err)
 	}
 	if c.Server.Listen != "127.0.0.1:9002" || c.Store.Dir != "from-env" || c.Worker.Concurrency != 3 || c.Verify.Budget != 45*time.Second ||
-		c.Redis.URL != "redis://127.0.0.1:6379/0" || c.Server.MaxBody != 1<<20 {
+		c.Redis.URL != "redis://127.0.0.1:6379/0" || c.Server.MaxInFlight != worker.DefaultMaxInFlight || c.Server.TokenRate != worker.DefaultTokenRate || c.Server.TokenBurst != worker.DefaultTokenBurst {
 		t.Errorf("layers: %+v", c)
 	}
 	// Tokens from the environment as JSON.

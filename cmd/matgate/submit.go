@@ -177,7 +177,8 @@ func (it *submitItem) fail(err error) {
 
 // submission returns what to send for a card: its own bytes when it
 // stands alone, so the server reads what the author wrote; its canonical
-// form (reference curves inline) when it names files or came from stdin.
+// encoding (compact, reference curves inline) when it names files or came
+// from stdin, which convert.Prepare has held to the size rule of a card.
 func submission(e *env, name string, l loaded) ([]byte, string, error) {
 	files := false
 	if v := l.doc.Card.Verification; v != nil {
@@ -195,7 +196,7 @@ func submission(e *env, name string, l loaded) ([]byte, string, error) {
 		}
 		return b, "application/yaml", nil
 	}
-	b, err := convert.Indented(l.card)
+	b, err := convert.Canonical(l.card)
 	return b, "application/json", err
 }
 
