@@ -31,6 +31,7 @@ type RecordStore interface {
 	Record(id string) ([]byte, error)
 	Card(id string) ([]byte, error)
 	List(cardID string, offset, limit int) ([]LedgerEntry, int)
+	Summary(id string) (Summary, error)
 	Ping() error
 }
 
@@ -177,6 +178,7 @@ type Job struct {
 	Verdict   string            `json:"verdict,omitempty"` // pass or fail, when done
 	CardID    string            `json:"card_id,omitempty"`
 	Revision  int               `json:"revision,omitempty"`
+	Checks    *CheckCounts      `json:"checks,omitempty"` // when done (and counted)
 	Stored    bool              `json:"stored,omitempty"` // the record is a file in the records directory
 	Warnings  []string          `json:"warnings,omitempty"`
 	Links     map[string]string `json:"links"`
@@ -404,19 +406,41 @@ func (a *API) readOutput(ctx context.Context, id string, card bool) (b []byte, s
 	return b, false, err
 }
 
+// summary returns a finished job's summary: from the records directory,
+// or from Redis while serve has not yet made the record a file. A record
+// in Redis that a worker before summaries wrote has an empty summary
+// (state done, nothing more).
+func (a *API) summary(ctx context.Context, id string) (sum Summary, stored bool, err error) {
+	if a.c.Store.Has(id) {
+		sum, err = a.c.Store.Summary(id)
+		return sum, true, err
+	}
+	b, err := a.c.Redis.Get(ctx, summaryKey(id)).Bytes()
+	if err == nil {
+		err = json.Unmarshal(b, &sum)
+		return sum, false, err
+	}
+	if !errors.Is(err, redis.Nil) {
+		return sum, false, err
+	}
+	done, err := a.hasRecord(ctx, id)
+	if err == nil && !done {
+		err = ErrNotFound
+	}
+	return Summary{ID: id}, false, err
+}
+
 func (a *API) job(w http.ResponseWriter, r *http.Request) {
 	id, ok := pathID(w, r)
 	if !ok {
 		return
 	}
 	j := Job{ID: id}
-	rec, stored, err := a.readOutput(r.Context(), id, false)
+	sum, stored, err := a.summary(r.Context(), id)
 	switch {
 	case err == nil:
 		j.State, j.Stored, j.Links = JobDone, stored, jobLinks(id, true)
-		if pr, perr := checks.ParseRecord(rec); perr == nil {
-			j.Verdict, j.CardID, j.Revision = pr.Verdict, pr.Card.ID, pr.Card.Revision
-		}
+		j.Verdict, j.CardID, j.Revision, j.Checks = sum.Verdict, sum.Card.ID, sum.Card.Revision, sum.Checks
 	case !errors.Is(err, ErrNotFound):
 		a.unavailable(w, r, err)
 		return
@@ -502,11 +526,12 @@ func (a *API) report(w http.ResponseWriter, r *http.Request) {
 	w.Write(b)
 }
 
-// Listing is a page of GET /v1/records.
+// Listing is a page of GET /v1/records: the stored records' summaries,
+// oldest first.
 type Listing struct {
-	Total   int           `json:"total"`
-	Records []LedgerEntry `json:"records"`
-	Next    string        `json:"next,omitempty"`
+	Total   int       `json:"total"`
+	Records []Summary `json:"records"`
+	Next    string    `json:"next,omitempty"`
 }
 
 func (a *API) list(w http.ResponseWriter, r *http.Request) {
@@ -528,9 +553,16 @@ func (a *API) list(w http.ResponseWriter, r *http.Request) {
 	}
 	card := q.Get("card")
 	entries, total := a.c.Store.List(card, offset, limit)
-	l := Listing{Total: total, Records: entries}
-	if l.Records == nil {
-		l.Records = []LedgerEntry{}
+	l := Listing{Total: total, Records: make([]Summary, len(entries))}
+	for i, e := range entries {
+		sum, err := a.c.Store.Summary(e.ID)
+		if err != nil {
+			a.c.Log.Error("records directory", "path", r.URL.Path, "err", err)
+			w.Header().Set("Retry-After", "5")
+			problem(w, r, http.StatusServiceUnavailable, "records directory unavailable", err.Error(), nil)
+			return
+		}
+		l.Records[i] = sum
 	}
 	if next := offset + len(entries); next < total {
 		v := map[string][]string{"offset": {strconv.Itoa(next)}, "limit": {strconv.Itoa(limit)}}

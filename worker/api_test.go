@@ -16,6 +16,9 @@ import (
 	"testing"
 	"time"
 
+	"github.com/google/go-cmp/cmp"
+
+	"matgate/checks"
 	"matgate/worker/redistest"
 )
 
@@ -133,6 +136,7 @@ func (s *apiStack) waitJob(t *testing.T, id string, limit time.Duration) Job {
 // created and digest. Resubmitting answers 303 to the record.
 func TestAPIEndToEnd(t *testing.T) {
 	s := newAPIStack(t, true, 0)
+	records := map[string][]byte{} // by job id, as served
 	for _, f := range demoCards {
 		path := filepath.Join("..", "testdata", "cards", f)
 		resp, j := s.submitFile(t, path)
@@ -152,6 +156,11 @@ func TestAPIEndToEnd(t *testing.T) {
 		if recordWithout(t, rec) != recordWithout(t, wantRec) {
 			t.Errorf("%s: record over HTTP differs from the in-process one beyond created and digest", f)
 		}
+		// The job's status comes from the summary: the record's own counts.
+		if total, failed := countChecks(want.Record); done.Checks == nil || done.Checks.Total != total || done.Checks.Failed != failed {
+			t.Errorf("%s: job status checks %+v, want %d total, %d failed", f, done.Checks, total, failed)
+		}
+		records[j.ID] = rec
 		if _, card := s.do(t, "GET", "/v1/records/"+j.ID+"/card", secretRead, "", nil); string(card) != string(want.Card) {
 			t.Errorf("%s: neutral card over HTTP differs from the in-process one", f)
 		}
@@ -172,8 +181,24 @@ func TestAPIEndToEnd(t *testing.T) {
 	}
 	_, body = s.do(t, "GET", "/v1/records?card=demo-canopy-steel", secretRead, "", nil)
 	json.Unmarshal(body, &l)
-	if l.Total != 1 || len(l.Records) != 1 || l.Records[0].CardID != "demo-canopy-steel" || l.Records[0].Revision != 4 {
-		t.Errorf("filtered listing: %s", body)
+	if l.Total != 1 || len(l.Records) != 1 || l.Records[0].Card.ID != "demo-canopy-steel" || l.Records[0].Card.Revision != 4 {
+		t.Fatalf("filtered listing: %s", body)
+	}
+	// The listing names the record's digest and its card's digest as the
+	// record does ("digest", "card": {"digest"}), not file hashes.
+	got := l.Records[0]
+	r, err := checks.ParseRecord(records[got.ID])
+	if err != nil {
+		t.Fatal(err)
+	}
+	total, failed := countChecks(r)
+	want := Summary{ID: got.ID, Verdict: r.Verdict, Created: r.Created, Digest: r.Digest,
+		Card: SummaryCard{ID: r.Card.ID, Revision: r.Card.Revision, Digest: r.Card.Digest}, Checks: &CheckCounts{Total: total, Failed: failed}}
+	if diff := cmp.Diff(want, got); diff != "" {
+		t.Errorf("listing entry (-want +got):\n%s", diff)
+	}
+	if strings.Contains(string(body), "sha256\"") || !strings.Contains(string(body), `"digest":`) {
+		t.Errorf("listing names file hashes or no digest: %s", body)
 	}
 	for _, p := range []string{"/healthz", "/readyz"} {
 		if resp, body := s.do(t, "GET", p, "", "", nil); resp.StatusCode != 200 {

@@ -17,14 +17,15 @@ import (
 func recordKey(id string) string { return "matgate:record:" + id }
 func cardKey(id string) string   { return "matgate:card:" + id }
 
-// putOutputs writes a record and its neutral card in one step, only when
-// no record of that id exists: a retried or concurrent run of the same job
-// leaves the first record in place. It returns 1 when it wrote, 0 when the
-// record was there.
+// putOutputs writes a record, its neutral card and its summary in one
+// step, only when no record of that id exists: a retried or concurrent run
+// of the same job leaves the first record in place. It returns 1 when it
+// wrote, 0 when the record was there.
 var putOutputs = redis.NewScript(`
 if redis.call('EXISTS', KEYS[1]) == 1 then return 0 end
 redis.call('SET', KEYS[1], ARGV[1])
 redis.call('SET', KEYS[2], ARGV[2])
+redis.call('SET', KEYS[3], ARGV[3])
 return 1
 `)
 
@@ -119,7 +120,7 @@ func (h *Handler) ProcessTask(ctx context.Context, t *asynq.Task) error {
 		if err != nil {
 			return fmt.Errorf("verify task %s: %w: %w", id, err, asynq.SkipRetry)
 		}
-		if err := putOutputs.Run(ctx, h.Redis, []string{recordKey(id), cardKey(id)}, rec, out.Card).Err(); err != nil {
+		if err := putOutputs.Run(ctx, h.Redis, []string{recordKey(id), cardKey(id), summaryKey(id)}, rec, out.Card, summaryJSON(SummaryOf(id, meta))).Err(); err != nil {
 			return fmt.Errorf("verify task %s: write outputs: %w", id, err)
 		}
 	}

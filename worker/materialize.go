@@ -52,7 +52,7 @@ func (m *Materializer) ProcessTask(ctx context.Context, t *asynq.Task) error {
 		return fmt.Errorf("materialize %s: the record is neither in Redis nor in the records directory: %w", p.ID, asynq.SkipRetry)
 	}
 	meta := p.Meta
-	if meta.CardID == "" || meta.Digest == "" { // none, or from a worker before the ledger kept digests
+	if meta.CardID == "" || meta.Digest == "" || meta.Checks == 0 { // none, or from a worker before the ledger kept digests or counts
 		if meta, err = metaFromJSON([]byte(rec)); err != nil {
 			return fmt.Errorf("materialize %s: %w: %w", p.ID, err, asynq.SkipRetry)
 		}
@@ -82,6 +82,7 @@ func (m *Materializer) expire(ctx context.Context, id string) error {
 	pipe := m.Redis.TxPipeline()
 	pipe.Expire(ctx, recordKey(id), RedisCopyTTL)
 	pipe.Expire(ctx, cardKey(id), RedisCopyTTL)
+	pipe.Expire(ctx, summaryKey(id), RedisCopyTTL)
 	if _, err := pipe.Exec(ctx); err != nil {
 		return fmt.Errorf("materialize %s: expire the Redis copy: %w", id, err)
 	}
