@@ -42,8 +42,9 @@ func newAPIStack(t *testing.T, workers bool, readTimeout time.Duration) *apiStac
 }
 
 // newAPIStackOn is newAPIStack on a given Redis (nil: a new one) with an
-// idle poll interval (zero: the tests' 20 ms).
-func newAPIStackOn(t testing.TB, r *redistest.Server, poll time.Duration, workers bool, readTimeout time.Duration) *apiStack {
+// idle poll interval (zero: the tests' 20 ms); set, when given, adjusts the
+// API's configuration.
+func newAPIStackOn(t testing.TB, r *redistest.Server, poll time.Duration, workers bool, readTimeout time.Duration, set ...func(*APIConfig)) *apiStack {
 	t.Helper()
 	s := &apiStack{queueStack: newQueueStack(t, r, false)}
 	s.poll = poll
@@ -53,10 +54,14 @@ func newAPIStackOn(t testing.TB, r *redistest.Server, poll time.Duration, worker
 		s.startWorker(t)
 		s.startMaterializer(t)
 	}
-	api, err := NewAPI(APIConfig{
+	c := APIConfig{
 		Redis: s.rdb, Queue: s.client, Inspector: s.insp, Store: s.store, Metrics: s.metrics,
 		Tokens: []Token{tokenAll, tokenRead, tokenSub}, Settings: Settings{ToolVersion: testTool.Version},
-	})
+	}
+	for _, f := range set {
+		f(&c)
+	}
+	api, err := NewAPI(c)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -14,11 +14,13 @@ import (
 // configuration).
 const (
 	// DefaultMaxInFlight is how many card submissions and report
-	// renderings serve handles at once. Each holds a body of up to
-	// schema.DefaultMaxBytes and its decoded tree (a few times the body);
-	// eight keep serve within some tens of MB (TestConcurrentBodiesBounded
-	// measures it) and two cores busy, and a CI client retries a 503.
-	DefaultMaxInFlight = 8
+	// renderings serve handles at once. A demo card costs little, but the
+	// costliest card within the size rule (1 MiB of reference points)
+	// takes about 100 MiB of heap and 1.6 s of CPU to decode, validate
+	// and normalize (TestConcurrentBodiesBounded, MATGATE_LONG_TESTS=1),
+	// so four bound serve's memory to some 400 MiB whatever clients send,
+	// keep two cores busy, and a CI client retries the 503.
+	DefaultMaxInFlight = 4
 	// DefaultTokenRate and DefaultTokenBurst are each token's sustained
 	// requests a second and the requests it may make at once above that:
 	// a CI job that submits a library of a hundred cards at once and then
