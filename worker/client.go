@@ -146,3 +146,26 @@ func IsProblem(err error, status ...int) bool {
 	}
 	return len(status) == 0
 }
+
+// Records returns the summaries of every stored record of card id, oldest
+// first, following the listing's pages.
+func (c *Client) Records(ctx context.Context, cardID string) ([]Summary, error) {
+	var out []Summary
+	next := "/v1/records?" + encodeQuery(map[string][]string{"card": {cardID}, "limit": {"1000"}})
+	for next != "" {
+		_, b, err := c.do(ctx, http.MethodGet, next, "", nil)
+		if err != nil {
+			return nil, err
+		}
+		var l Listing
+		if err := json.Unmarshal(b, &l); err != nil {
+			return nil, fmt.Errorf("listing of %s: %w", cardID, err)
+		}
+		out = append(out, l.Records...)
+		if l.Next != "" && !strings.HasPrefix(l.Next, "/v1/records?") {
+			return nil, fmt.Errorf("listing of %s: unexpected next page %q", cardID, l.Next)
+		}
+		next = l.Next
+	}
+	return out, nil
+}

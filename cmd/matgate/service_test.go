@@ -150,7 +150,7 @@ func TestServiceCommands(t *testing.T) {
 			t.Errorf("ledger verify %s: exit %d %s", d, code, o)
 		}
 	}
-	if a, b := storeFiles(t, store), storeFiles(t, localStore); strings.Join(a, " ") != strings.Join(b, " ") || len(a) != 8 {
+	if a, b := storeFiles(t, store), storeFiles(t, localStore); strings.Join(a, " ") != strings.Join(b, " ") || len(a) != 12 { // a record, a card and a summary each
 		t.Errorf("records directories hold different files:\n serve  %v\n verify %v", a, b)
 	}
 	// A second submission is answered from the records (303) and gives
@@ -179,6 +179,27 @@ func TestServiceCommands(t *testing.T) {
 	code, stdout, stderr = matgate(t, "", "submit", "--server", "http://"+addr, "--out", out, "../../testdata/cards/al-bilinear.yaml", unbumped)
 	if code != exitInvalid || !strings.Contains(stdout, unbumped+":5:11: /revision: card demo-canopy-aluminium revision 2 is also in ../../testdata/cards/al-bilinear.yaml:5:11") || strings.Count(stderr, "submitted demo-canopy-aluminium") != 1 {
 		t.Errorf("submit of two cards of one revision: exit %d\n%s%s", code, stdout, stderr)
+	}
+	// A new revision whose reference curve is explained by a misreading:
+	// submit prints the finding in the card's own terms (MPa, as written)
+	// and the change of the response from the stored revision, the lines
+	// that verify --store prints for it.
+	h, _ := os.ReadFile("../../testdata/cards/hanger-mixed.yaml")
+	hanger := filepath.Join(dir, "hanger-r2.yaml")
+	os.WriteFile(hanger, []byte(strings.Replace(strings.Replace(string(h), "{model: linear, tangent_modulus: 10000}", "{model: linear, plastic_modulus: 10000}", 1), "revision: 1\n", "revision: 2\n", 1)), 0o644)
+	code, stdout, stderr = matgate(t, "", "submit", "--server", "http://"+addr, "--out", out, hanger)
+	_, local2, _ := matgate(t, "", "verify", "--out", filepath.Join(dir, "local2"), "--store", localStore, hanger)
+	lines := func(s string) []string {
+		var out []string
+		for _, l := range strings.Split(s, "\n") {
+			if strings.HasPrefix(l, "     finding: ") || strings.HasPrefix(l, "     response vs r") {
+				out = append(out, l)
+			}
+		}
+		return out
+	}
+	if got, want := lines(stdout), lines(local2); code != exitFailed || len(want) != 2 || strings.Join(got, "\n") != strings.Join(want, "\n") || !strings.Contains(stdout, "plastic_modulus 10000 MPa") {
+		t.Errorf("submit of a revision with a finding: exit %d, want %d; its lines\n%s\nverify --store's\n%s\n%s%s", code, exitFailed, strings.Join(got, "\n"), strings.Join(want, "\n"), stdout, stderr)
 	}
 	// A wrong token is a service error (exit 3).
 	t.Setenv("MATGATE_TOKEN", secret+"x")
