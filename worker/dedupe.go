@@ -7,6 +7,7 @@ import (
 	"encoding/json"
 	"errors"
 	"net/http"
+	"time"
 
 	"github.com/hibiken/asynq"
 )
@@ -20,11 +21,11 @@ import (
 // on the full path; anything but a job queued, running or done goes the
 // full path (a failed job is queued again there).
 
-// bodyAnswerTTL is how long a body's answer is kept: as long as the task of
-// its job (TaskRetention), so that a CI job that resubmits an unchanged
-// library within a day is answered from digests. An entry is a few
-// hundred bytes.
-const bodyAnswerTTL = TaskRetention
+// bodyAnswerTTL is how long a body's answer is kept: a day, so that a CI
+// job that resubmits an unchanged library on every commit is answered from
+// digests. An entry is a few hundred bytes; once its task has expired
+// (TaskRetention) the answer comes from the record (303).
+const bodyAnswerTTL = 24 * time.Hour
 
 // bodyAnswer is what serve keeps of a submitted body.
 type bodyAnswer struct {

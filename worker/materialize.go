@@ -12,10 +12,13 @@ import (
 	"github.com/redis/go-redis/v9"
 )
 
-// RedisCopyTTL is how long the Redis copy of a record stays once its file
-// is durable: long enough for a reader racing the materialization, short
-// enough that Redis does not grow with the library.
-const RedisCopyTTL = 7 * 24 * time.Hour
+// RedisCopyTTL is how long the Redis copy of a record (its card and
+// summary) stays once its file is durable. What reads the copy is a
+// request that looked at the records directory just before the file was
+// there (readOutput, hasRecord, the job status): a matter of milliseconds.
+// Ten minutes cover that with room, and keep Redis, which runs without
+// eviction, from holding records of some hundreds of kB each for days.
+const RedisCopyTTL = 10 * time.Minute
 
 // Materializer runs materialize tasks in serve, with concurrency 1: it
 // copies a job's record and neutral card from Redis into the DirStore and
