@@ -16,14 +16,15 @@ import (
 
 	"github.com/prometheus/client_golang/prometheus/testutil"
 
+	"matgate/convert"
 	"matgate/schema"
 )
 
-// maxSizeCard returns the demo hanger card with its reference curve grown
-// to size bytes (just under the card limit): the costliest body a client
-// can send, since serve decodes, validates and normalizes all of it
-// (before the normalized size refuses it, 422). The points are invented.
-func maxSizeCard(t testing.TB, size int) []byte {
+// pointsCard returns the demo hanger card (MPa) with its reference curve
+// replaced by n points alternating between two of one text length, so that
+// each adds the same bytes to the card and to its canonical form. The
+// points are invented.
+func pointsCard(t testing.TB, n int) []byte {
 	t.Helper()
 	base, err := os.ReadFile("../testdata/cards/hanger-mixed.yaml")
 	if err != nil {
@@ -35,13 +36,20 @@ func maxSizeCard(t testing.TB, size int) []byte {
 		t.Fatal("the hanger demo card changed: no inline points")
 	}
 	var b strings.Builder
-	b.WriteString(s[:i])
-	b.WriteString("      points: [[0, 0]")
-	for k := 1; b.Len() < size-40; k++ {
-		fmt.Fprintf(&b, ", [%.6f, %.2f]", 0.025*float64(k)/1e5, float64(k%400))
+	b.WriteString(s[:i] + "      points: [[0, 0]")
+	for k := range n {
+		b.WriteString([]string{", [0.0011, 250]", ", [0.0012, 260]"}[k%2])
 	}
 	b.WriteString("]\n")
 	return []byte(b.String())
+}
+
+// maxSizeCard returns pointsCard grown to about size bytes as written: the
+// costliest body a client can send, since serve decodes, validates and
+// normalizes all of it.
+func maxSizeCard(t testing.TB, size int) []byte {
+	n0 := len(pointsCard(t, 0))
+	return pointsCard(t, (size-n0)/15)
 }
 
 // filler is n bytes of a YAML comment, made as they are read, so that a
@@ -304,4 +312,39 @@ func (s *apiStack) submitCard(t *testing.T, card []byte) (*http.Response, Job) {
 	var j Job
 	json.Unmarshal(body, &j)
 	return resp, j
+}
+
+// TestSizeRuleInServeAndWorker: serve refuses a card whose canonical form
+// is one pair of points over the card limit (422, located at the
+// references, though its body is well within the limit) and takes one
+// pair fewer (202); the worker decodes that job's task, the canonical card
+// at the limit, as the same card.
+func TestSizeRuleInServeAndWorker(t *testing.T) {
+	s := newAPIStack(t, false, 0)
+	size := func(n int) int {
+		b, _ := convert.Canonical(prepareTestCard(t, "card.yaml", pointsCard(t, n)))
+		return len(b)
+	}
+	s2, s4 := size(2), size(4)
+	under := 2 + 2*((schema.DefaultMaxBytes-s2)/(s4-s2))
+	resp, body := s.do(t, "POST", "/v1/cards", secretAll, "application/yaml", strings.NewReader(string(pointsCard(t, under+2))))
+	if resp.StatusCode != http.StatusUnprocessableEntity || !strings.Contains(string(body), "/verification/references: the normalized card") {
+		t.Errorf("a card normalized just over the limit: %d %.600s", resp.StatusCode, body)
+	}
+	resp, j := s.submitCard(t, pointsCard(t, under))
+	if resp.StatusCode != http.StatusAccepted {
+		t.Fatalf("a card normalized just within the limit: %d", resp.StatusCode)
+	}
+	info, err := s.insp.GetTaskInfo(QueueVerify, j.ID)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var p Payload
+	if err := json.Unmarshal(info.Payload, &p); err != nil {
+		t.Fatal(err)
+	}
+	c, err := decodeCanonical(p.Card)
+	if err != nil || JobID(c.Digest, p.Settings) != j.ID || len(p.Card) > schema.DefaultMaxBytes || len(p.Card) < schema.DefaultMaxBytes-64 {
+		t.Errorf("the worker's decoding of the task (%d bytes): %v", len(p.Card), err)
+	}
 }
