@@ -223,9 +223,10 @@ func TestAPIEndToEnd(t *testing.T) {
 }
 
 // TestAPIIdempotent submits one card eight times at once and twice more
-// after: one job id, one verification, one record, one ledger line.
+// after: one job id, one verification, one record, one ledger line. All
+// eight are let in at once (server.max_in_flight 8), so that they race.
 func TestAPIIdempotent(t *testing.T) {
-	s := newAPIStack(t, true, 0)
+	s := newAPIStackOn(t, nil, 0, true, 0, func(c *APIConfig) { c.MaxInFlight = 8 })
 	path := "../testdata/cards/ss-chaboche.yaml"
 	var wg sync.WaitGroup
 	ids := make([]string, 8)
