@@ -6,36 +6,13 @@ import (
 	"testing"
 
 	"matgate/schema"
+	"matgate/worker/cardspace"
 )
-
-// pointsCard returns the hanger demo card (MPa) with its reference curve
-// replaced by n points alternating between two of the same text length,
-// so that each adds the same number of bytes to the card and to its
-// canonical form ("[0.0011,250000000]," in Pa). The points are invented.
-func pointsCard(t testing.TB, n int) []byte {
-	t.Helper()
-	base, err := os.ReadFile("../testdata/cards/hanger-mixed.yaml")
-	if err != nil {
-		t.Fatal(err)
-	}
-	s := string(base)
-	i := strings.Index(s, "      points: [")
-	if i < 0 {
-		t.Fatal("the hanger demo card changed: no inline points")
-	}
-	var b strings.Builder
-	b.WriteString(s[:i] + "      points: [[0, 0]")
-	for k := range n {
-		b.WriteString([]string{", [0.0011, 250]", ", [0.0012, 260]"}[k%2])
-	}
-	b.WriteString("]\n")
-	return []byte(b.String())
-}
 
 // canonicalSize is the length of the canonical form of a card of n points.
 func canonicalSize(t testing.TB, n int) int {
 	t.Helper()
-	doc, err := schema.Decode("card.yaml", pointsCard(t, n), nil)
+	doc, err := schema.Decode("card.yaml", cardspace.PointsCard(n), nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -66,7 +43,7 @@ func pointsAround(t testing.TB) (under, over int) {
 func TestCardSizeRule(t *testing.T) {
 	under, over := pointsAround(t)
 	prepare := func(n int) (*schema.Card, schema.Diagnostics) {
-		b := pointsCard(t, n)
+		b := cardspace.PointsCard(n)
 		if len(b) >= schema.DefaultMaxBytes {
 			t.Fatalf("the card as written is %d bytes: not a test of the normalized size", len(b))
 		}
