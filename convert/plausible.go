@@ -88,9 +88,9 @@ const (
 	// that never saturates has a c far too small.
 	negligible = 1e-3
 	// smallStrain is the plastic strain over which a term's contribution
-	// is judged negligible: 10 %, the end of small strain for metals
-	// (common practice, no source).
-	smallStrain = 0.1
+	// is judged negligible: the end of small strain, the same limit that
+	// bounds the verification cases (MaxStrain, sizing.go).
+	smallStrain = MaxStrain
 )
 
 // MaxHardening returns the largest saturating hardening h (an

@@ -516,7 +516,7 @@ func (a *API) report(w http.ResponseWriter, r *http.Request) {
 	}
 	rec, err := checks.ParseRecord(b)
 	if err == nil {
-		b, err = report.Render(rec)
+		b, err = report.Render(rec, report.Written{})
 	}
 	if err != nil {
 		problem(w, r, http.StatusInternalServerError, "report failed", err.Error(), nil)

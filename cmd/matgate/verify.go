@@ -238,7 +238,7 @@ func verifyOne(cmd *cobra.Command, e *env, name string, opt verifyOptions) verif
 			o.Comparison.New.File = l.file
 		}
 		if !opt.force && store.Has(id) {
-			return reuseStored(o, store, id, base, opt.withReport)
+			return reuseStored(o, store, id, base, opt.withReport, report.Written{Stress: l.doc.Card.Units.Stress})
 		}
 	}
 	start := time.Now()
@@ -272,7 +272,11 @@ func verifyOne(cmd *cobra.Command, e *env, name string, opt verifyOptions) verif
 	for _, t := range out.Tables {
 		files[base+"."+t.Name+".csv"] = t.CSV()
 	}
-	if err := writeOutputs(&o, files, base, opt.withReport, out.Record); err != nil {
+	written := report.Written{Stress: l.doc.Card.Units.Stress}
+	for _, f := range o.Findings {
+		written.Findings = append(written.Findings, f.Text)
+	}
+	if err := writeOutputs(&o, files, base, opt.withReport, out.Record, written); err != nil {
 		return fail(err)
 	}
 	if store != nil {
@@ -379,7 +383,7 @@ func (s *verifySummary) err() error {
 // reuseStored completes o from the stored record of job id instead of
 // verifying again, and writes the stored record and neutral card (and,
 // with the report, its HTML) into the output folder.
-func reuseStored(o verifyOutcome, store *worker.DirStore, id, base string, withReport bool) verifyOutcome {
+func reuseStored(o verifyOutcome, store *worker.DirStore, id, base string, withReport bool, written report.Written) verifyOutcome {
 	fail := func(err error) verifyOutcome {
 		o.Status = "error"
 		o.Problems = append(o.Problems, fmt.Sprintf("stored record %s: %v", id, err))
@@ -400,17 +404,17 @@ func reuseStored(o verifyOutcome, store *worker.DirStore, id, base string, withR
 	o.fromRecord(r)
 	o.Reused = id
 	files := map[string][]byte{base + ".record.json": rec, base + ".card.json": card}
-	if err := writeOutputs(&o, files, base, withReport, r); err != nil {
+	if err := writeOutputs(&o, files, base, withReport, r, written); err != nil {
 		return fail(err)
 	}
 	return o
 }
 
 // writeOutputs writes a card's output files (with the report of r when
-// asked) in name order and lists them in o.
-func writeOutputs(o *verifyOutcome, files map[string][]byte, base string, withReport bool, r *checks.Record) error {
+// asked, in the card's terms as written) in name order and lists them in o.
+func writeOutputs(o *verifyOutcome, files map[string][]byte, base string, withReport bool, r *checks.Record, written report.Written) error {
 	if withReport {
-		html, err := report.Render(r)
+		html, err := report.Render(r, written)
 		if err != nil {
 			return err
 		}

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"html/template"
 
-	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 
@@ -56,26 +55,28 @@ func ptrG(p *float64) string {
 	if p == nil {
 		return "-"
 	}
-	return g(*p)
+	return num(*p)
 }
 
 func relPct(p *float64) string {
 	if p == nil {
 		return "-"
 	}
-	return fmt.Sprintf("%+.4g %%", 100**p)
+	s := num(100 * *p)
+	if *p > 0 {
+		s = "+" + s
+	}
+	return s + " %"
 }
 
 // overlaySVG draws one curve of each side, stress in MPa against strain.
 func overlaySVG(title string, old, new Side, curve func(*checks.Response) [][2]float64) (template.HTML, error) {
-	p := plot.New()
-	p.Title.Text = title
-	p.X.Label.Text, p.Y.Label.Text = "strain", "stress (MPa)"
+	p := newPlot(title, "strain (%)", "stress (MPa)")
 	for i, s := range []Side{old, new} {
 		pts := curve(s.Response)
 		xy := make(plotter.XYs, len(pts))
 		for j, q := range pts {
-			xy[j] = plotter.XY{X: q[0], Y: q[1] / 1e6}
+			xy[j] = plotter.XY{X: 100 * q[0], Y: q[1] / 1e6}
 		}
 		line, err := plotter.NewLine(xy)
 		if err != nil {
@@ -90,8 +91,6 @@ func overlaySVG(title string, old, new Side, curve func(*checks.Response) [][2]f
 		p.Add(line)
 		p.Legend.Add(s.Label, line)
 	}
-	p.Legend.Top, p.Legend.Left = true, true
-	p.Add(plotter.NewGrid())
 	return inlineSVG(p)
 }
 

@@ -1,3 +1,5 @@
 // Package report renders a verification record as a self-contained HTML
-// page for auditors, with an SVG plot of every case drawn by gonum/plot.
+// page for auditors (a summary sheet first, then every case with its
+// checks and its plots drawn by gonum/plot, then the numbered sources),
+// and the comparison page of two revisions of a card.
 package report
