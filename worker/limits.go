@@ -2,12 +2,15 @@ package worker
 
 import (
 	"fmt"
+	"io"
 	"math"
 	"net/http"
 	"strconv"
 	"time"
 
 	"golang.org/x/time/rate"
+
+	"matgate/schema"
 )
 
 // Defaults of the request limits of serve (APIConfig, server.* in the
@@ -52,6 +55,11 @@ func (a *API) bounded(h http.HandlerFunc) http.HandlerFunc {
 			if a.c.Metrics != nil {
 				a.c.Metrics.Refused.WithLabelValues("busy").Inc()
 			}
+			// Read the body (to nothing, at most a card's limit) before
+			// answering: a server that answers without reading closes the
+			// connection under a client still sending, which then sees a
+			// reset instead of the 503 and its Retry-After.
+			io.Copy(io.Discard, http.MaxBytesReader(w, r.Body, schema.DefaultMaxBytes))
 			w.Header().Set("Retry-After", "1")
 			problem(w, r, http.StatusServiceUnavailable, "busy",
 				fmt.Sprintf("serve is handling %d submissions or reports, its limit (server.max_in_flight); nothing was accepted, try again", cap(a.inFlight)), nil)

@@ -140,7 +140,8 @@ func TestConcurrentBodiesBounded(t *testing.T) {
 		}
 	}()
 	stop = heapPeak()
-	busy := 0 // 503 answers, each retried after 10 ms
+	busy := 0   // 503 answers, each retried after 10 ms
+	resets := 0 // bodies over the limit whose connection was closed before the client read the 413
 	for i := range 48 {
 		wg.Go(func() {
 			costly := i%every == 0
@@ -155,8 +156,14 @@ func TestConcurrentBodiesBounded(t *testing.T) {
 				resp, err := post(body())
 				mu.Lock()
 				switch {
+				case err != nil && !costly:
+					// The server stops reading a body at the limit and
+					// closes the connection: the client may see that
+					// instead of the 413.
+					status[413]++
+					resets++
 				case err != nil:
-					status[0]++
+					t.Errorf("a costly card (within the limit): %v", err)
 				case resp.StatusCode == http.StatusServiceUnavailable:
 					busy++
 					if resp.Header.Get("Retry-After") == "" {
@@ -180,8 +187,8 @@ func TestConcurrentBodiesBounded(t *testing.T) {
 	peak := stop()
 	flood <- struct{}{}
 	<-flood
-	t.Logf("heap in use above the start: one costly card of %d bytes %.1f MiB; 48 bodies at once, %d in flight: peak %.1f MiB; answers %v (negative: the costly cards'), %d busy (503) and retried; %d health+status polls during the flood",
-		len(heavy), float64(one)/(1<<20), inFlight, float64(peak)/(1<<20), status, busy, polls.Load())
+	t.Logf("heap in use above the start: one costly card of %d bytes %.1f MiB; 48 bodies at once, %d in flight: peak %.1f MiB; answers %v (negative: the costly cards'; %d of the 413 a closed connection), %d busy (503) and retried; %d health+status polls during the flood",
+		len(heavy), float64(one)/(1<<20), inFlight, float64(peak)/(1<<20), status, resets, busy, polls.Load())
 	if pollErr != nil {
 		t.Errorf("during the flood: %v", pollErr)
 	}
