@@ -2,11 +2,15 @@ package checks
 
 import (
 	"bytes"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
+	"reflect"
 	"slices"
 	"strconv"
+	"strings"
+	"sync"
 	"unicode/utf16"
 	"unicode/utf8"
 )
@@ -342,6 +346,10 @@ func appendES6Number(out []byte, v float64) ([]byte, error) {
 	if v == 0 {
 		return append(out, '0'), nil // -0 too
 	}
+	// An integer below 2^53 is exact in both forms and written plain.
+	if v == math.Trunc(v) && math.Abs(v) < 1<<53 {
+		return strconv.AppendInt(out, int64(v), 10), nil
+	}
 	if v < 0 {
 		out = append(out, '-')
 		v = -v
@@ -352,11 +360,12 @@ func appendES6Number(out []byte, v float64) ([]byte, error) {
 	for i := range e {
 		if e[i] == 'e' {
 			mant = e[:i]
-			x, err := strconv.Atoi(string(e[i+1:]))
-			if err != nil {
-				return out, err
+			for _, ch := range e[i+2:] { // after the sign
+				exp = 10*exp + int(ch-'0')
 			}
-			exp = x
+			if e[i+1] == '-' {
+				exp = -exp
+			}
 			break
 		}
 	}
@@ -403,13 +412,13 @@ func appendES6Number(out []byte, v float64) ([]byte, error) {
 // quoteCanonical appends s as a JSON string the way JSON.stringify writes
 // it: '"' and '\\' escaped, the control characters U+0000 to U+001F as
 // \b \t \n \f \r or \u00xx (lower-case hex), everything else as it is.
-func quoteCanonical(out []byte, s []byte) []byte {
+func quoteCanonical[S ~string | ~[]byte](out []byte, s S) []byte {
 	const hex = "0123456789abcdef"
 	out = append(out, '"')
 	start := 0
 	for i := 0; i < len(s); i++ {
 		ch := s[i]
-		if ch >= 0x20 && ch != '"' && ch != '\\' {
+		if !needsEscape[ch] {
 			continue
 		}
 		out = append(out, s[start:i]...)
@@ -435,6 +444,15 @@ func quoteCanonical(out []byte, s []byte) []byte {
 	return append(out, '"')
 }
 
+// needsEscape marks the bytes quoteCanonical escapes.
+var needsEscape = func() (t [256]bool) {
+	for ch := range 0x20 {
+		t[ch] = true
+	}
+	t['"'], t['\\'] = true, true
+	return t
+}()
+
 // compareUTF16 orders strings by their UTF-16 code units, as RFC 8785
 // sorts member names. For names below U+D800 (all of ours) this is the
 // byte order of their UTF-8; the general case converts.
@@ -450,4 +468,281 @@ func compareUTF16(a, b []byte) int {
 		return bytes.Compare(a, b)
 	}
 	return slices.Compare(utf16.Encode([]rune(string(a))), utf16.Encode([]rune(string(b))))
+}
+
+// encoder writes the RFC 8785 encoding of a Go value directly, as
+// canonicalJSON would write it for what encoding/json writes of the value,
+// without the intermediate text: fields named by their json tags, sorted
+// by UTF-16 code units, omitempty as encoding/json applies it, fields
+// tagged "-" and unexported fields left out, strings coerced to valid
+// UTF-8 as encoding/json does, integers through float64 as RFC 8785 reads
+// every number. A json.RawMessage is written as it is and must already be
+// canonical. It takes the kinds the record types use (structs without
+// embedding, pointers, slices, arrays, strings, bools, integers, float64)
+// and refuses the others.
+type encoder struct {
+	out []byte
+	// seriesRows writes a *Series as matgate.record/1 did: an array of
+	// sample objects instead of columns.
+	seriesRows bool
+	// mark names a member of the outermost object: markAt is where it
+	// is, or would be when left out, in out (before its comma).
+	mark   string
+	markAt int
+	depth  int
+}
+
+var (
+	rawMessageType = reflect.TypeFor[json.RawMessage]()
+	seriesPtrType  = reflect.TypeFor[*Series]()
+	float64sType   = reflect.TypeFor[[]float64]()
+)
+
+func (e *encoder) value(v reflect.Value) error {
+	switch v.Type() {
+	case rawMessageType:
+		if v.IsNil() {
+			e.out = append(e.out, "null"...)
+		} else {
+			e.out = append(e.out, v.Bytes()...)
+		}
+		return nil
+	case seriesPtrType:
+		if e.seriesRows && !v.IsNil() {
+			return e.seriesAsRows(v.Interface().(*Series))
+		}
+	case float64sType:
+		if v.IsNil() {
+			e.out = append(e.out, "null"...)
+			return nil
+		}
+		e.out = append(e.out, '[')
+		for i, x := range v.Interface().([]float64) {
+			if i > 0 {
+				e.out = append(e.out, ',')
+			}
+			if err := e.float(x); err != nil {
+				return err
+			}
+		}
+		e.out = append(e.out, ']')
+		return nil
+	}
+	switch v.Kind() {
+	case reflect.Pointer:
+		if v.IsNil() {
+			e.out = append(e.out, "null"...)
+			return nil
+		}
+		return e.value(v.Elem())
+	case reflect.Struct:
+		return e.object(v)
+	case reflect.Slice:
+		if v.IsNil() {
+			e.out = append(e.out, "null"...)
+			return nil
+		}
+		if v.Type().Elem().Kind() == reflect.Uint8 {
+			return fmt.Errorf("canonical JSON: %s: byte slices are not supported", v.Type())
+		}
+		fallthrough
+	case reflect.Array:
+		e.out = append(e.out, '[')
+		for i := range v.Len() {
+			if i > 0 {
+				e.out = append(e.out, ',')
+			}
+			if err := e.value(v.Index(i)); err != nil {
+				return err
+			}
+		}
+		e.out = append(e.out, ']')
+		return nil
+	case reflect.String:
+		e.out = quoteString(e.out, v.String())
+		return nil
+	case reflect.Bool:
+		if v.Bool() {
+			e.out = append(e.out, "true"...)
+		} else {
+			e.out = append(e.out, "false"...)
+		}
+		return nil
+	case reflect.Float64:
+		return e.float(v.Float())
+	case reflect.Int, reflect.Int8, reflect.Int16, reflect.Int32, reflect.Int64:
+		return e.float(float64(v.Int()))
+	case reflect.Uint, reflect.Uint8, reflect.Uint16, reflect.Uint32, reflect.Uint64:
+		return e.float(float64(v.Uint()))
+	}
+	return fmt.Errorf("canonical JSON: %s: kind %s is not supported", v.Type(), v.Kind())
+}
+
+func (e *encoder) float(x float64) error {
+	out, err := appendES6Number(e.out, x)
+	if err != nil {
+		return fmt.Errorf("canonical JSON: %g: %w", x, err)
+	}
+	e.out = out
+	return nil
+}
+
+// field is an encoded struct field: its quoted name and colon, in
+// canonical order.
+type field struct {
+	index     int
+	name      string
+	key       []byte // "name":
+	omitEmpty bool
+}
+
+var fieldCache sync.Map // reflect.Type -> []field
+
+func fieldsOf(t reflect.Type) ([]field, error) {
+	if f, ok := fieldCache.Load(t); ok {
+		return f.([]field), nil
+	}
+	var fs []field
+	var names [][]byte
+	for i := range t.NumField() {
+		sf := t.Field(i)
+		if sf.Anonymous {
+			return nil, fmt.Errorf("canonical JSON: %s: embedded field %s is not supported", t, sf.Name)
+		}
+		if !sf.IsExported() {
+			continue
+		}
+		tag := sf.Tag.Get("json")
+		if tag == "-" {
+			continue
+		}
+		name, opts, _ := strings.Cut(tag, ",")
+		if name == "" {
+			name = sf.Name
+		}
+		omit := false
+		for o := range strings.SplitSeq(opts, ",") {
+			switch o {
+			case "omitempty":
+				omit = true
+			case "":
+			default:
+				return nil, fmt.Errorf("canonical JSON: %s.%s: tag option %q is not supported", t, sf.Name, o)
+			}
+		}
+		key := quoteCanonical(nil, []byte(name))
+		fs = append(fs, field{index: i, name: name, key: append(key, ':'), omitEmpty: omit})
+		names = append(names, []byte(name))
+	}
+	order := make([]int, len(fs))
+	for i := range order {
+		order[i] = i
+	}
+	slices.SortFunc(order, func(a, b int) int { return compareUTF16(names[a], names[b]) })
+	sorted := make([]field, len(fs))
+	for i, j := range order {
+		sorted[i] = fs[j]
+	}
+	fieldCache.Store(t, sorted)
+	return sorted, nil
+}
+
+func (e *encoder) object(v reflect.Value) error {
+	fs, err := fieldsOf(v.Type())
+	if err != nil {
+		return err
+	}
+	e.out = append(e.out, '{')
+	e.depth++
+	defer func() { e.depth-- }()
+	first := true
+	for _, f := range fs {
+		if e.depth == 1 && f.name == e.mark {
+			e.markAt = len(e.out)
+		}
+		fv := v.Field(f.index)
+		if f.omitEmpty && isEmptyValue(fv) {
+			continue
+		}
+		if !first {
+			e.out = append(e.out, ',')
+		}
+		first = false
+		e.out = append(e.out, f.key...)
+		if err := e.value(fv); err != nil {
+			return err
+		}
+	}
+	e.out = append(e.out, '}')
+	return nil
+}
+
+// isEmptyValue is encoding/json's rule for omitempty.
+func isEmptyValue(v reflect.Value) bool {
+	switch v.Kind() {
+	case reflect.Array, reflect.Map, reflect.Slice, reflect.String:
+		return v.Len() == 0
+	case reflect.Bool, reflect.Int, reflect.Int8, reflect.Int16, reflect.Int32, reflect.Int64,
+		reflect.Uint, reflect.Uint8, reflect.Uint16, reflect.Uint32, reflect.Uint64, reflect.Uintptr,
+		reflect.Float32, reflect.Float64, reflect.Interface, reflect.Pointer:
+		return v.IsZero()
+	}
+	return false
+}
+
+// seriesAsRows writes s as matgate.record/1 wrote a series: one object per
+// sample, the shear members only where they are not +0 (encoding/json's
+// omitempty: reflect.Value.IsZero) and gap only where it is true.
+func (e *encoder) seriesAsRows(s *Series) error {
+	e.out = append(e.out, '[')
+	gaps := s.Gaps
+	for i, smp := range s.Samples() {
+		if i > 0 {
+			e.out = append(e.out, ',')
+		}
+		members := []struct {
+			key  string
+			v    float64
+			omit bool
+		}{
+			{`{"accumulated_plastic_strain":`, smp.P, false},
+			{`,"back_stress":`, smp.BackStress, false},
+			{`,"plastic_strain":`, smp.PlasticStrain, false},
+			{`,"shear_strain":`, smp.ShearStrain, math.Float64bits(smp.ShearStrain) == 0},
+			{`,"shear_stress":`, smp.ShearStress, math.Float64bits(smp.ShearStress) == 0},
+			{`,"strain":`, smp.Strain, false},
+			{`,"stress":`, smp.Stress, false},
+		}
+		for k, m := range members {
+			if k == 2 && len(gaps) > 0 && gaps[0] == i {
+				e.out = append(e.out, `,"gap":true`...)
+				gaps = gaps[1:]
+			}
+			if m.omit {
+				continue
+			}
+			e.out = append(e.out, m.key...)
+			if err := e.float(m.v); err != nil {
+				return err
+			}
+		}
+		e.out = append(e.out, '}')
+	}
+	e.out = append(e.out, ']')
+	return nil
+}
+
+// quoteString is quoteCanonical of a Go string as encoding/json writes it:
+// each byte that is not part of valid UTF-8 becomes U+FFFD.
+func quoteString(out []byte, s string) []byte {
+	if utf8.ValidString(s) {
+		return quoteCanonical(out, s)
+	}
+	var b []byte
+	for i := 0; i < len(s); {
+		r, size := utf8.DecodeRuneInString(s[i:])
+		b = utf8.AppendRune(b, r)
+		i += size
+	}
+	return quoteCanonical(out, b)
 }

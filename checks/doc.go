@@ -2,7 +2,9 @@
 // reference integrator (matgate/checks/plastic), compares every result with a
 // closed form, a numerical invariant or one of the card's reference curves
 // within a derived tolerance, and writes the verification record
-// (matgate.record/1) with its digest and optional ed25519 signature.
+// (matgate.record/2; matgate.record/1 is still read) with its digest and
+// optional ed25519 signature. The record's JSON form is its RFC 8785
+// encoding, written directly from the record's fields (canonical.go).
 //
 // Units are SI throughout: stresses in Pa, energies per volume in J/m^3,
 // strains dimensionless. Tension is positive.

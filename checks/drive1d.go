@@ -229,30 +229,159 @@ func (d *path1D) solveStress(sig, tol float64) (float64, error) {
 	return 0, fmt.Errorf("stress target %g Pa at strain %g: %w", sig, d.st.Eps, plastic.ErrNotConverged)
 }
 
-// downsample returns at most limit samples of pts: all of them when they
-// fit, else the first and the last limit/2 at full resolution. A long cyclic
-// history then shows its first cycles (virgin loading, transients) and its
-// last, stabilized ones as they were integrated; an even stride would alias
-// the loops of many cycles into a zigzag.
-func downsample[T any](pts []T, limit int, conv func(*T) Sample) []Sample {
+// downsample returns the series of pts for plots in two stages. First the
+// increments kept: all of them when they are at most limit, else the first
+// and the last limit/2 at full resolution. A long cyclic history then shows
+// its first cycles (virgin loading, transients) and its last, stabilized
+// ones as they were integrated; an even stride would alias the loops of
+// many cycles into a zigzag. Then thin leaves out the kept increments that
+// a plot would not show.
+func downsample[T any](pts []T, limit int, conv func(*T) Sample) *Series {
 	keep := func(i int) bool { return i < limit/2 || i >= len(pts)-limit/2 }
 	if len(pts) <= limit {
 		keep = func(int) bool { return true }
 	}
-	out := make([]Sample, 0, min(len(pts), limit))
+	rows := make([]Sample, 0, min(len(pts), limit))
 	for i := range pts {
 		if keep(i) {
 			smp := conv(&pts[i])
 			smp.Gap = i > 0 && !keep(i-1)
-			out = append(out, smp)
+			rows = append(rows, smp)
 		}
 	}
-	return out
+	return thin(rows, maxSamples)
 }
 
-const maxSeries = 400
+// maxSeries bounds the increments kept by downsample's first stage (and
+// the recorded states of a 3D case); maxSamples bounds the samples of a
+// series, which keeps a record of the standard cases near 100 KB.
+const (
+	maxSeries  = 400
+	maxSamples = 120
+)
 
-func (d *path1D) series() []Sample {
+// thinTol is the largest distance, in fractions of each plotted axis's
+// range, between a left-out sample and the line drawn past it: about half
+// a pixel of a plot 500 pixels across (common practice, no source).
+const thinTol = 1e-3
+
+// thin returns the series of rows with at most limit samples: the
+// Ramer-Douglas-Peucker simplification of each run of rows between gaps,
+// as a curve through the plotted coordinates (strain, stress, shear strain,
+// shear stress, each divided by its range over rows), with tolerance
+// thinTol, doubled until the series fits. Every run keeps its first and
+// last row, and so every gap; the other columns follow the rows kept.
+//
+// References:
+//   - U. Ramer, An iterative procedure for the polygonal approximation of
+//     plane curves, Computer Graphics and Image Processing 1(3), 1972.
+//   - D. H. Douglas and T. K. Peucker, Algorithms for the reduction of the
+//     number of points required to represent a digitized line or its
+//     caricature, The Canadian Cartographer 10(2), 1973.
+func thin(rows []Sample, limit int) *Series {
+	var lo, hi [4]float64
+	coords := func(r *Sample) [4]float64 { return [4]float64{r.Strain, r.Stress, r.ShearStrain, r.ShearStress} }
+	for i := range rows {
+		x := coords(&rows[i])
+		for k := range x {
+			if i == 0 || x[k] < lo[k] {
+				lo[k] = x[k]
+			}
+			if i == 0 || x[k] > hi[k] {
+				hi[k] = x[k]
+			}
+		}
+	}
+	pts := make([][4]float64, len(rows))
+	for i := range rows {
+		x := coords(&rows[i])
+		for k := range x {
+			if hi[k] > lo[k] {
+				pts[i][k] = (x[k] - lo[k]) / (hi[k] - lo[k])
+			}
+		}
+	}
+	kept := make([]bool, len(rows))
+	n := 0
+	for tol := thinTol; ; tol *= 2 {
+		clear(kept)
+		n = 0
+		for a := 0; a < len(rows); {
+			b := a + 1
+			for b < len(rows) && !rows[b].Gap {
+				b++
+			}
+			n += simplify(pts[a:b], kept[a:b], tol)
+			a = b
+		}
+		if n <= limit || tol > 1 {
+			break
+		}
+	}
+	s := &Series{}
+	s.grow(n)
+	for i := range rows {
+		if kept[i] {
+			s.append(rows[i], rows[i].Gap)
+		}
+	}
+	s.dropZeroColumns()
+	return s
+}
+
+// simplify marks in kept the points of the Ramer-Douglas-Peucker
+// simplification of pts with tolerance tol (Euclidean distance to the
+// chord) and returns their number.
+func simplify(pts [][4]float64, kept []bool, tol float64) int {
+	n := len(pts)
+	if n == 0 {
+		return 0
+	}
+	kept[0], kept[n-1] = true, true
+	count := min(n, 2)
+	type span struct{ a, b int }
+	stack := []span{{0, n - 1}}
+	for len(stack) > 0 {
+		sp := stack[len(stack)-1]
+		stack = stack[:len(stack)-1]
+		worst, at := tol, -1
+		for k := sp.a + 1; k < sp.b; k++ {
+			if d := chordDistance(pts[k], pts[sp.a], pts[sp.b]); d > worst {
+				worst, at = d, k
+			}
+		}
+		if at >= 0 {
+			kept[at] = true
+			count++
+			stack = append(stack, span{sp.a, at}, span{at, sp.b})
+		}
+	}
+	return count
+}
+
+// chordDistance returns the distance from p to the segment from a to b.
+func chordDistance(p, a, b [4]float64) float64 {
+	var ab, ap [4]float64
+	l2, t := 0.0, 0.0
+	for k := range p {
+		ab[k], ap[k] = b[k]-a[k], p[k]-a[k]
+		l2 += ab[k] * ab[k]
+		t += ab[k] * ap[k]
+	}
+	if l2 > 0 {
+		t = math.Max(0, math.Min(1, t/l2))
+	} else {
+		t = 0
+	}
+	d2 := 0.0
+	for k := range p {
+		e := ap[k] - t*ab[k]
+		d2 += e * e
+	}
+	return math.Sqrt(d2)
+}
+
+func (d *path1D) series() *Series {
 	return downsample(d.pts, maxSeries, func(p *pt) Sample {
 		return Sample{Strain: p.eps, Stress: p.sigma, PlasticStrain: p.epsP, BackStress: p.alpha, P: p.p}
 	})

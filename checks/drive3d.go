@@ -84,7 +84,7 @@ func (r *rec3D) drive(ctx context.Context, m *plastic.Material, st *plastic.Stat
 	return res, err
 }
 
-func (r *rec3D) series() []Sample {
+func (r *rec3D) series() *Series {
 	return downsample(r.pts, maxSeries, func(p *pt3) Sample {
 		return Sample{Strain: p.eps11, Stress: p.sig11, PlasticStrain: p.epsP11, BackStress: p.x11, P: p.p, ShearStrain: p.gam12, ShearStress: p.tau12}
 	})

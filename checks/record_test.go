@@ -1,17 +1,23 @@
 package checks
 
 import (
+	"bytes"
+	"compress/gzip"
 	"context"
 	"crypto/ed25519"
 	"encoding/json"
 	"errors"
 	"flag"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 	"time"
+
+	"github.com/gowebpki/jcs"
 
 	"github.com/google/go-cmp/cmp"
 	"github.com/google/go-cmp/cmp/cmpopts"
@@ -165,5 +171,158 @@ func TestGoldenRecord(t *testing.T) {
 	})
 	if diff := cmp.Diff(w, g, opt, cmpopts.EquateEmpty()); diff != "" {
 		t.Errorf("record differs from %s (-want +got):\n%s", path, diff)
+	}
+}
+
+// v1Fixture returns testdata/records/steel-prager-v1.record.json.gz: the
+// record of the steel demo card as matgate verify wrote it in
+// matgate.record/1, before the series were stored by column.
+func v1Fixture(t *testing.T) []byte {
+	t.Helper()
+	f, err := os.Open(filepath.Join("..", "testdata", "records", "steel-prager-v1.record.json.gz"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	zr, err := gzip.NewReader(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := io.ReadAll(zr)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return b
+}
+
+// TestRecordV1: a matgate.record/1 record made by the code before
+// matgate.record/2 reads, keeps its digest, encodes to the bytes
+// gowebpki/jcs makes of the file, and is refused with a field of its
+// format's samples added or with the other format's name.
+func TestRecordV1(t *testing.T) {
+	b := v1Fixture(t)
+	r, err := ParseRecord(b)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.Format != RecordFormatV1 {
+		t.Fatalf("format %q", r.Format)
+	}
+	if err := r.VerifyIntegrity(nil); err != nil {
+		t.Fatal(err)
+	}
+	got, err := r.MarshalJSON()
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := jcs.Transform(b)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(got, want) {
+		t.Errorf("re-encoded matgate.record/1 differs from gowebpki/jcs of the file")
+	}
+	gaps := 0
+	for _, c := range r.Cases {
+		gaps += len(c.Series.Gaps)
+	}
+	if gaps == 0 {
+		t.Errorf("no gap read from the fixture, which has one")
+	}
+	for _, bad := range []struct{ name, old, new string }{
+		{"field in a sample", `"accumulated_plastic_strain":`, `"rounded": true, "accumulated_plastic_strain":`},
+		{"field at the top", `"caution":`, `"approved": true, "caution":`},
+		{"format relabelled", `"matgate.record/1"`, `"matgate.record/2"`},
+		{"unknown format", `"matgate.record/1"`, `"matgate.record/3"`},
+	} {
+		e := bytes.Replace(b, []byte(bad.old), []byte(bad.new), 1)
+		if bytes.Equal(e, b) {
+			t.Fatalf("%s: %q not in the fixture", bad.name, bad.old)
+		}
+		if _, err := ParseRecord(e); !errors.Is(err, ErrBadRecord) {
+			t.Errorf("%s: got %v, want ErrBadRecord", bad.name, err)
+		}
+	}
+}
+
+// TestRecordV2Strict: a matgate.record/2 record is refused with a member
+// added to a series, a column of another length, a gap out of order, or a
+// series as sample objects.
+func TestRecordV2Strict(t *testing.T) {
+	r := steelRecord(t, time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC))
+	b, err := r.MarshalJSON()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := ParseRecord(b); err != nil {
+		t.Fatal(err)
+	}
+	for _, bad := range []struct{ name, old, new string }{
+		{"member in a series", `"series":{`, `"series":{"smoothed":true,`},
+		{"short column", `"back_stress":[`, `"back_stress":[1,`},
+		{"gap at the first sample", `"series":{`, `"series":{"gaps":[0],`},
+		{"series as samples", `"series":{`, `"series":[{"strain":0,"stress":0,"plastic_strain":0,"back_stress":0,"accumulated_plastic_strain":0}],"x":{`},
+	} {
+		e := bytes.Replace(b, []byte(bad.old), []byte(bad.new), 1)
+		if bytes.Equal(e, b) {
+			t.Fatalf("%s: %q not in the record", bad.name, bad.old)
+		}
+		if _, err := ParseRecord(e); !errors.Is(err, ErrBadRecord) {
+			t.Errorf("%s: got %v, want ErrBadRecord", bad.name, err)
+		}
+	}
+}
+
+// TestRecordReproducesV1: a matgate.record/1 record is reproduced by a
+// re-run whose series are thinned from its own, and not once a sample of
+// the re-run is moved or a check changed.
+func TestRecordReproducesV1(t *testing.T) {
+	created := time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC)
+	full := steelRecord(t, created)
+	// The old record: every first-stage sample, as the rows of /1.
+	old := *full
+	old.Format = RecordFormatV1
+	old.Cases = slices.Clone(full.Cases)
+	for i, c := range old.Cases {
+		if c.Series == nil {
+			continue
+		}
+		s := &Series{rows: true}
+		for _, smp := range c.Series.Samples() {
+			s.append(smp, false)
+			// a sample between every two, as thinning would have left out
+			mid := smp
+			mid.Strain += 1e-9
+			s.append(mid, false)
+		}
+		s.dropZeroColumns()
+		old.Cases[i].Series = s
+	}
+	d, err := old.ComputeDigest()
+	if err != nil {
+		t.Fatal(err)
+	}
+	old.Digest = d
+	if ok, err := old.Reproduces(full); !ok || err != nil {
+		t.Fatalf("thinned re-run does not reproduce: %v %v", ok, err)
+	}
+	moved := *full
+	moved.Cases = slices.Clone(full.Cases)
+	for i, c := range moved.Cases {
+		if c.Series.Len() > 2 {
+			s := *c.Series
+			s.Strain = slices.Clone(s.Strain)
+			s.Strain[1] += 1e-6
+			moved.Cases[i].Series = &s
+			break
+		}
+	}
+	if ok, _ := old.Reproduces(&moved); ok {
+		t.Errorf("a re-run with a moved sample reproduces")
+	}
+	changed := *full
+	changed.Verdict = "fail"
+	if ok, _ := old.Reproduces(&changed); ok {
+		t.Errorf("a re-run with another verdict reproduces")
 	}
 }

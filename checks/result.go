@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 )
 
 // Result is the outcome of Run.
@@ -14,6 +15,20 @@ type Result struct {
 	// Findings are remarks on checks that pass or fail does not carry
 	// (see Diagnose); they go into the record and its digest.
 	Findings []Finding `json:"findings,omitempty"`
+}
+
+// VerdictOf is the verdict of cases: "pass" when every check passes,
+// else "fail". A record's verdict is this of its cases, which lets a
+// reader recompute it.
+func VerdictOf(cases []Case) string {
+	for i := range cases {
+		for j := range cases[i].Checks {
+			if !cases[i].Checks[j].Pass {
+				return "fail"
+			}
+		}
+	}
+	return "pass"
 }
 
 // Settings is everything needed to reproduce a Result: the resolved Spec
@@ -41,10 +56,9 @@ type Settings struct {
 // CaseSetting is the numerical setting of one case.
 type CaseSetting struct {
 	Case       string  `json:"case"`
-	Control    string  `json:"control"`             // "strain", "stress", "mixed"
-	Algorithm  string  `json:"algorithm,omitempty"` // when it differs from Settings.Algorithm
-	Increment  float64 `json:"increment"`           // max increment of the controlled quantity (Pa for stress)
-	Increments int     `json:"increments"`          // increments of the reported run
+	Control    string  `json:"control"`    // "strain", "stress", "mixed"
+	Increment  float64 `json:"increment"`  // max increment of the controlled quantity (Pa for stress)
+	Increments int     `json:"increments"` // increments of the reported run
 	Rerun      int     `json:"rerun_increments"`
 }
 
@@ -61,10 +75,10 @@ type Case struct {
 	// Measures are reported numbers that are not checks (RMS errors,
 	// counts), for the auditor.
 	Measures []Measure `json:"measures,omitempty"`
-	// Series is the response for plots: every increment, or for a long
-	// run its first and last 200 increments (see downsample).
-	Series []Sample `json:"series"`
-	Curves []Curve  `json:"curves,omitempty"`
+	// Series is the response for plots (see downsample); nil for a
+	// skipped case.
+	Series *Series `json:"series"`
+	Curves []Curve `json:"curves,omitempty"`
 
 	tracked []tracked // quantities compared by the convergence rerun only
 }
@@ -103,20 +117,126 @@ type Measure struct {
 	Unit  string  `json:"unit"`
 }
 
-// Sample is one point of a downsampled response. 3D cases fill the shear
-// columns (tension-torsion: engineering shear strain gamma_12 and shear
-// stress tau_12); the 1D columns are the axial ones.
+// Series is the response of a case for plots, stored by column: sample i
+// is element i of every column. 3D cases fill the shear columns
+// (tension-torsion: engineering shear strain gamma_12 and shear stress
+// tau_12); a column that is zero throughout is left out (nil), and the 1D
+// columns are the axial ones. Gaps lists, in increasing order, the samples
+// that follow increments left out of the series: a plot starts a new line
+// there. See downsample for which increments are kept.
+type Series struct {
+	Strain        []float64 `json:"strain"`
+	Stress        []float64 `json:"stress"`
+	PlasticStrain []float64 `json:"plastic_strain"`
+	BackStress    []float64 `json:"back_stress"`
+	P             []float64 `json:"accumulated_plastic_strain"`
+	ShearStrain   []float64 `json:"shear_strain,omitempty"`
+	ShearStress   []float64 `json:"shear_stress,omitempty"`
+	Gaps          []int     `json:"gaps,omitempty"`
+
+	rows bool // read from a matgate.record/1 array of sample objects
+}
+
+// Sample is one point of a Series, as a row.
 type Sample struct {
-	Strain        float64 `json:"strain"`
-	Stress        float64 `json:"stress"`
-	PlasticStrain float64 `json:"plastic_strain"`
-	BackStress    float64 `json:"back_stress"`
-	P             float64 `json:"accumulated_plastic_strain"`
-	ShearStrain   float64 `json:"shear_strain,omitempty"`
-	ShearStress   float64 `json:"shear_stress,omitempty"`
-	// Gap marks the first sample after increments left out of the series:
-	// a plot starts a new line here.
-	Gap bool `json:"gap,omitempty"`
+	Strain, Stress, PlasticStrain, BackStress, P float64
+	ShearStrain, ShearStress                     float64
+	Gap                                          bool // the first sample after increments left out
+}
+
+// Len returns the number of samples; a nil series has none.
+func (s *Series) Len() int {
+	if s == nil {
+		return 0
+	}
+	return len(s.Strain)
+}
+
+// Samples returns the samples of s as rows, for plots; nil for a nil
+// series.
+func (s *Series) Samples() []Sample {
+	if s == nil {
+		return nil
+	}
+	n := s.Len()
+	out := make([]Sample, n)
+	for i := range out {
+		out[i] = Sample{Strain: s.Strain[i], Stress: s.Stress[i], PlasticStrain: s.PlasticStrain[i], BackStress: s.BackStress[i], P: s.P[i]}
+		if s.ShearStrain != nil {
+			out[i].ShearStrain = s.ShearStrain[i]
+		}
+		if s.ShearStress != nil {
+			out[i].ShearStress = s.ShearStress[i]
+		}
+	}
+	for _, g := range s.Gaps {
+		out[g].Gap = true
+	}
+	return out
+}
+
+// grow makes room for n more samples.
+func (s *Series) grow(n int) {
+	for _, col := range []*[]float64{&s.Strain, &s.Stress, &s.PlasticStrain, &s.BackStress, &s.P, &s.ShearStrain, &s.ShearStress} {
+		*col = slices.Grow(*col, n)
+	}
+}
+
+// append adds one sample; gap marks it as following left-out increments.
+func (s *Series) append(smp Sample, gap bool) {
+	if gap {
+		s.Gaps = append(s.Gaps, len(s.Strain))
+	}
+	s.Strain = append(s.Strain, smp.Strain)
+	s.Stress = append(s.Stress, smp.Stress)
+	s.PlasticStrain = append(s.PlasticStrain, smp.PlasticStrain)
+	s.BackStress = append(s.BackStress, smp.BackStress)
+	s.P = append(s.P, smp.P)
+	s.ShearStrain = append(s.ShearStrain, smp.ShearStrain)
+	s.ShearStress = append(s.ShearStress, smp.ShearStress)
+}
+
+// dropZeroColumns leaves out the shear columns when they are +0
+// throughout (a -0 is kept, as matgate.record/1 wrote it).
+func (s *Series) dropZeroColumns() {
+	zero := func(col []float64) bool {
+		for _, v := range col {
+			if math.Float64bits(v) != 0 {
+				return false
+			}
+		}
+		return true
+	}
+	if zero(s.ShearStrain) {
+		s.ShearStrain = nil
+	}
+	if zero(s.ShearStress) {
+		s.ShearStress = nil
+	}
+}
+
+// validate checks that every column has one element per sample and that
+// the gaps are increasing indices of samples after the first.
+func (s *Series) validate() error {
+	n := len(s.Strain)
+	for _, c := range []struct {
+		name string
+		col  []float64
+		opt  bool
+	}{{"stress", s.Stress, false}, {"plastic_strain", s.PlasticStrain, false}, {"back_stress", s.BackStress, false},
+		{"accumulated_plastic_strain", s.P, false}, {"shear_strain", s.ShearStrain, true}, {"shear_stress", s.ShearStress, true}} {
+		if len(c.col) != n && !(c.opt && c.col == nil) {
+			return fmt.Errorf("series column %s has %d values, strain has %d", c.name, len(c.col), n)
+		}
+	}
+	prev := 0
+	for _, g := range s.Gaps {
+		if g <= prev || g >= n {
+			return fmt.Errorf("series gap %d is not an increasing index in (0, %d)", g, n)
+		}
+		prev = g
+	}
+	return nil
 }
 
 // Curve is an overlay for plots: a closed-form curve or a reference curve,

@@ -53,14 +53,7 @@ func (v *verifier) run(ctx context.Context) (*Result, error) {
 		res.Cases = append(res.Cases, c)
 		res.Settings.Cases = append(res.Settings.Cases, set)
 	}
-	res.Verdict = "pass"
-	for i := range res.Cases {
-		for j := range res.Cases[i].Checks {
-			if !res.Cases[i].Checks[j].Pass {
-				res.Verdict = "fail"
-			}
-		}
-	}
+	res.Verdict = VerdictOf(res.Cases)
 	return res, nil
 }
 

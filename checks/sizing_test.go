@@ -84,7 +84,7 @@ func TestDefaultCasesWithinLimits(t *testing.T) {
 					continue
 				}
 				peak := 0.0
-				for _, s := range c.Series {
+				for _, s := range c.Series.Samples() {
 					peak = math.Max(peak, math.Abs(s.Strain))
 				}
 				if peak > MaxStrain {

@@ -193,6 +193,13 @@ func Indented(c *schema.Card) ([]byte, error) {
 	if err != nil {
 		return nil, err
 	}
+	return Indent(b)
+}
+
+// Indent returns canonical JSON (as Canonical returns it) indented for
+// reading, without encoding it again: the neutral card of a verification
+// that already has the card's canonical form.
+func Indent(b []byte) ([]byte, error) {
 	var buf bytes.Buffer
 	if err := json.Indent(&buf, b, "", "  "); err != nil {
 		return nil, err

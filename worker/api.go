@@ -449,8 +449,15 @@ func (a *API) job(w http.ResponseWriter, r *http.Request) {
 	switch {
 	case errors.Is(err, asynq.ErrTaskNotFound) || errors.Is(err, asynq.ErrQueueNotFound):
 		if j.State == "" {
-			problem(w, r, http.StatusNotFound, "no such job", "no job or record has id "+id, nil)
-			return
+			failed, ferr := a.failedJob(r.Context(), &j)
+			if ferr != nil {
+				a.unavailable(w, r, ferr)
+				return
+			}
+			if !failed {
+				problem(w, r, http.StatusNotFound, "no such job", "no job or record has id "+id, nil)
+				return
+			}
 		}
 	case err != nil && j.State == JobDone && j.Stored:
 		// Redis is down but the record is a file: the job's answer stands.

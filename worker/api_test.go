@@ -250,7 +250,7 @@ func TestAPIIdempotent(t *testing.T) {
 	if n := s.runs.Load(); n != 1 {
 		t.Errorf("%d verification tasks ran, want 1", n)
 	}
-	if rep, _ := VerifyLedger(s.dir); rep.Break != nil || rep.Entries != 1 {
+	if rep, _ := VerifyLedger(s.dir, nil); rep.Break != nil || rep.Entries != 1 {
 		t.Errorf("ledger: %+v", rep)
 	}
 }

@@ -70,14 +70,7 @@ func TestKilledWorkerRecovered(t *testing.T) {
 	r := redistest.Start(t)
 	s := newQueueStack(t, r, false)
 	s.startMaterializer(t)
-	c := prepareTestCard(t, "slow.yaml", slowCard(t))
-	task, id, err := NewVerifyTask(c, Settings{ToolVersion: testTool.Version}, TaskTimeout(DefaultBudget))
-	if err != nil {
-		t.Fatal(err)
-	}
-	if _, err := s.client.Enqueue(task); err != nil {
-		t.Fatal(err)
-	}
+	id := enqueueSlowCard(t, s)
 	proc := exec.Command(os.Args[0], "-test.run=^$")
 	proc.Env = append(os.Environ(), helperEnv+"="+r.Addr)
 	proc.Stderr = os.Stderr
@@ -111,7 +104,7 @@ func TestKilledWorkerRecovered(t *testing.T) {
 	if err != nil || info.State != asynq.TaskStateCompleted || info.Retried < 1 {
 		t.Errorf("task after recovery: %+v %v; want completed after a retry", info, err)
 	}
-	if rep, _ := VerifyLedger(s.dir); rep.Break != nil || rep.Entries != 1 {
+	if rep, _ := VerifyLedger(s.dir, nil); rep.Break != nil || rep.Entries != 1 {
 		t.Errorf("ledger: %+v", rep)
 	}
 }
@@ -146,7 +139,7 @@ func TestServeRestartBeforeMaterialize(t *testing.T) {
 	}
 	s.startMaterializer(t)
 	s.waitStored(t, time.Minute, ids...)
-	if rep, _ := VerifyLedger(s.dir); rep.Break != nil || rep.Entries != len(ids) {
+	if rep, _ := VerifyLedger(s.dir, nil); rep.Break != nil || rep.Entries != len(ids) {
 		t.Errorf("ledger: %+v", rep)
 	}
 	for _, id := range ids {
@@ -230,7 +223,7 @@ func TestLoad1000(t *testing.T) {
 	if got := s.runs.Load(); got != n {
 		t.Errorf("%d verifications ran, want %d", got, n)
 	}
-	rep, err := VerifyLedger(s.dir)
+	rep, err := VerifyLedger(s.dir, nil)
 	if err != nil || rep.Break != nil || rep.Entries != n || rep.Files != 2*n {
 		t.Errorf("ledger: %+v %v", rep, err)
 	}
@@ -243,14 +236,7 @@ func TestWorkerShutdownRequeues(t *testing.T) {
 	longTest(t) // the second worker runs the slow card in full: 10 to 40 s
 	s := newQueueStack(t, nil, false)
 	s.startMaterializer(t)
-	c := prepareTestCard(t, "slow.yaml", slowCard(t))
-	task, id, err := NewVerifyTask(c, Settings{ToolVersion: testTool.Version}, TaskTimeout(DefaultBudget))
-	if err != nil {
-		t.Fatal(err)
-	}
-	if _, err := s.client.Enqueue(task); err != nil {
-		t.Fatal(err)
-	}
+	id := enqueueSlowCard(t, s)
 	o := s.options()
 	o.Concurrency, o.ShutdownTimeout = 1, 200*time.Millisecond
 	first, mux := NewVerifyServer(s.rdb, s.handler(), o)
@@ -277,9 +263,23 @@ func TestWorkerShutdownRequeues(t *testing.T) {
 	}
 	s.startWorker(t)
 	s.waitStored(t, 2*time.Minute, id)
-	if rep, _ := VerifyLedger(s.dir); rep.Break != nil || rep.Entries != 1 {
+	if rep, _ := VerifyLedger(s.dir, nil); rep.Break != nil || rep.Entries != 1 {
 		t.Errorf("ledger: %+v", rep)
 	}
+}
+
+// enqueueSlowCard enqueues the verification of slowCard and returns its
+// job id.
+func enqueueSlowCard(t *testing.T, s *queueStack) string {
+	t.Helper()
+	task, id, err := NewVerifyTask(prepareTestCard(t, "slow.yaml", slowCard(t)), Settings{ToolVersion: testTool.Version}, TaskTimeout(DefaultBudget))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := s.client.Enqueue(task); err != nil {
+		t.Fatal(err)
+	}
+	return id
 }
 
 // enqueueDemoCards enqueues a verification task for each demo card directly

@@ -11,21 +11,24 @@ import (
 	"github.com/redis/go-redis/v9"
 
 	"matgate/checks"
+	"matgate/schema"
 )
 
 // Redis keys of the outputs of a job, until serve has made them files.
 func recordKey(id string) string { return "matgate:record:" + id }
 func cardKey(id string) string   { return "matgate:card:" + id }
 
-// putOutputs writes a record, its neutral card and its summary in one
-// step, only when no record of that id exists: a retried or concurrent run
-// of the same job leaves the first record in place. It returns 1 when it
-// wrote, 0 when the record was there.
+// putOutputs writes a record, its neutral card and its summary (KEYS[4])
+// in one step, only when no record of that id exists: a retried or
+// concurrent run of the same job leaves the first record in place. It
+// drops the job's refusal (KEYS[3]), if serve refused an earlier record of
+// it. It returns 1 when it wrote, 0 when the record was there.
 var putOutputs = redis.NewScript(`
 if redis.call('EXISTS', KEYS[1]) == 1 then return 0 end
 redis.call('SET', KEYS[1], ARGV[1])
 redis.call('SET', KEYS[2], ARGV[2])
-redis.call('SET', KEYS[3], ARGV[3])
+redis.call('DEL', KEYS[3])
+redis.call('SET', KEYS[4], ARGV[3])
 return 1
 `)
 
@@ -50,13 +53,16 @@ type Handler struct {
 	Budget time.Duration
 	// Now stamps records; nil means time.Now.
 	Now func() time.Time
+
+	verify func(context.Context, *schema.Card, checks.Tool, time.Time) (*Outputs, error) // tests; nil: Verify
 }
 
 // ProcessTask runs one verification task, idempotently, since asynq
 // delivers at least once:
 //
 //  1. a record for this job in Redis: go to 4;
-//  2. decode the canonical card and run Verify under the budget;
+//  2. count the run (a poison card is refused: see PoisonLimit), decode
+//     the canonical card and run Verify under the budget;
 //  3. write the record and the neutral card create-if-absent;
 //  4. enqueue the materialize task (a task-id conflict is success);
 //  5. return nil.
@@ -83,7 +89,6 @@ func (h *Handler) ProcessTask(ctx context.Context, t *asynq.Task) error {
 		return fmt.Errorf("verify task %s: %w", id, err)
 	}
 	var seconds float64
-	var meta RecordMeta
 	if n == 0 {
 		budget := h.Budget
 		if budget <= 0 {
@@ -100,11 +105,23 @@ func (h *Handler) ProcessTask(ctx context.Context, t *asynq.Task) error {
 		if h.Now != nil {
 			now = h.Now
 		}
+		verify := Verify
+		if h.verify != nil {
+			verify = h.verify
+		}
+		done, err := startRun(ctx, h.Redis, id, now())
+		if errors.Is(err, ErrPoison) {
+			return fmt.Errorf("verify task %s: %w: %w", id, err, asynq.SkipRetry)
+		}
+		if err != nil {
+			return fmt.Errorf("verify task %s: %w", id, err)
+		}
 		vctx, cancel := context.WithTimeout(ctx, budget)
 		start := time.Now()
-		out, err := Verify(vctx, c, h.Tool, now().UTC())
+		out, err := verify(vctx, c, h.Tool, now().UTC())
 		seconds = time.Since(start).Seconds()
 		cancel()
+		done() // not reached when the run takes the worker down
 		switch {
 		case err != nil && ctx.Err() != nil:
 			return fmt.Errorf("verify task %s: %w", id, ctx.Err()) // shutdown or asynq's timeout: asynq requeues
@@ -115,26 +132,22 @@ func (h *Handler) ProcessTask(ctx context.Context, t *asynq.Task) error {
 		case err != nil:
 			return fmt.Errorf("verify task %s: %w: %w", id, err, asynq.SkipRetry)
 		}
-		meta = MetaOf(out.Record)
-		rec, err := RecordJSON(out.Record)
-		if err != nil {
-			return fmt.Errorf("verify task %s: %w: %w", id, err, asynq.SkipRetry)
-		}
-		if err := putOutputs.Run(ctx, h.Redis, []string{recordKey(id), cardKey(id), summaryKey(id)}, rec, out.Card, summaryJSON(SummaryOf(id, meta))).Err(); err != nil {
+		if err := putOutputs.Run(ctx, h.Redis, []string{recordKey(id), cardKey(id), failureKey(id), summaryKey(id)}, out.RecordJSON, out.Card, summaryJSON(SummaryOf(id, MetaOf(out.Record)))).Err(); err != nil {
 			return fmt.Errorf("verify task %s: write outputs: %w", id, err)
 		}
 	}
-	_, err = h.Queue.EnqueueContext(ctx, newMaterializeTask(id, seconds, meta))
+	_, err = h.Queue.EnqueueContext(ctx, newMaterializeTask(id, seconds))
 	if err != nil && !errors.Is(err, asynq.ErrTaskIDConflict) {
 		return fmt.Errorf("verify task %s: enqueue materialize: %w", id, err)
 	}
 	return nil
 }
 
-// RecordJSON is the byte form of a record in every store: indented JSON
-// and a newline, as matgate verify has always written it.
+// RecordJSON is the byte form of a record in every store and output: its
+// RFC 8785 encoding (compact JSON, the bytes its digest is computed from,
+// with the digest and signature) and a newline.
 func RecordJSON(r *checks.Record) ([]byte, error) {
-	b, err := json.MarshalIndent(r, "", "  ")
+	b, err := r.MarshalJSON()
 	if err != nil {
 		return nil, fmt.Errorf("encode record: %w", err)
 	}

@@ -1,9 +1,12 @@
 package worker
 
 import (
+	"bytes"
 	"context"
+	"crypto/ed25519"
 	"encoding/json"
 	"fmt"
+	"log/slog"
 	"os"
 	"path/filepath"
 	"sync"
@@ -60,14 +63,20 @@ type queueStack struct {
 	runs    atomic.Int64  // verification tasks the worker ran
 	poll    time.Duration // idle poll interval; zero: quiet's
 	observe func(seconds float64)
+	key     ed25519.PrivateKey // serve's signing key
+	log     *slog.Logger       // the materializer's; nil discards
 }
+
+// testKey is serve's signing key in the tests (a fixed seed: a key of the
+// tests, not a secret).
+var testKey = ed25519.NewKeyFromSeed(bytes.Repeat([]byte{7}, ed25519.SeedSize))
 
 func newQueueStack(t testing.TB, r *redistest.Server, workers bool) *queueStack {
 	t.Helper()
 	if r == nil {
 		r = redistest.Start(t)
 	}
-	s := &queueStack{redis: r, rdb: r.Client(t), dir: t.TempDir()}
+	s := &queueStack{redis: r, rdb: r.Client(t), dir: t.TempDir(), key: testKey}
 	s.client = asynq.NewClientFromRedisClient(s.rdb)
 	s.insp = asynq.NewInspectorFromRedisClient(s.rdb)
 	t.Cleanup(func() { s.client.Close(); s.insp.Close() })
@@ -115,12 +124,16 @@ func (s *queueStack) startWorker(t testing.TB) {
 }
 
 func (s *queueStack) startMaterializer(t testing.TB) *asynq.Server {
-	srv, mux := NewMaterializeServer(s.rdb, &Materializer{Redis: s.rdb, Store: s.store, Observe: s.observe}, s.options())
+	srv, mux := NewMaterializeServer(s.rdb, s.materializer(), s.options())
 	if err := srv.Start(mux); err != nil {
 		t.Fatal(err)
 	}
 	t.Cleanup(srv.Shutdown)
 	return srv
+}
+
+func (s *queueStack) materializer() *Materializer {
+	return &Materializer{Redis: s.rdb, Store: s.store, Key: s.key, Inspector: s.insp, Observe: s.observe, Log: s.log}
 }
 
 // waitStored waits until the store holds every id. It fails when stall
@@ -182,7 +195,8 @@ func longTest(t *testing.T) {
 }
 
 // recordWithout decodes a record and drops the fields that differ between
-// two runs of the same verification: created and so the digest.
+// two runs of the same verification (created and so the digest) and
+// serve's signature.
 func recordWithout(t *testing.T, b []byte) string {
 	t.Helper()
 	var m map[string]any
@@ -191,6 +205,7 @@ func recordWithout(t *testing.T, b []byte) string {
 	}
 	delete(m, "created")
 	delete(m, "digest")
+	delete(m, "signature")
 	out, _ := json.Marshal(m)
 	return string(out)
 }
@@ -225,14 +240,17 @@ func TestQueueMatchesInProcess(t *testing.T) {
 		}
 		wantRec, _ := RecordJSON(want[id].Record)
 		if recordWithout(t, rec) != recordWithout(t, wantRec) {
-			t.Errorf("%s: queued record differs from the in-process one beyond created and digest", id)
+			t.Errorf("%s: queued record differs from the in-process one beyond created, digest and signature", id)
+		}
+		if err := verifySigned(rec); err != nil {
+			t.Errorf("%s: the stored record is not signed with serve's key: %v", id, err)
 		}
 		card, _ := s.store.Card(id)
 		if string(card) != string(want[id].Card) {
 			t.Errorf("%s: queued neutral card differs from the in-process one", id)
 		}
 	}
-	rep, err := VerifyLedger(s.dir)
+	rep, err := VerifyLedger(s.dir, nil)
 	if err != nil || rep.Break != nil || rep.Entries != len(ids) || rep.Files != 2*len(ids) {
 		t.Errorf("ledger: %+v, %v", rep, err)
 	}

@@ -3,6 +3,7 @@ package worker
 import (
 	"bufio"
 	"bytes"
+	"crypto/ed25519"
 	"crypto/rand"
 	"crypto/sha256"
 	"encoding/hex"
@@ -82,6 +83,9 @@ type DirStore struct {
 
 	faultMu sync.Mutex // not mu: Ping must answer while a Put waits on the disk
 	fault   error      // the last write that failed, until one succeeds
+
+	cpMu  sync.Mutex // AppendCheckpoint
+	cpSeq int        // seq of the last line of CheckpointsName; -1: not read yet
 }
 
 // storeFile is what the store writes through: an *os.File, or in tests a
@@ -139,7 +143,7 @@ func OpenStore(dir string, o StoreOptions) (*DirStore, error) {
 	if err != nil {
 		return nil, fmt.Errorf("records directory %s: %w", dir, err)
 	}
-	s := &DirStore{dir: dir, root: root, index: map[string]int{}, log: o.Log, wrap: o.wrap}
+	s := &DirStore{dir: dir, root: root, index: map[string]int{}, log: o.Log, wrap: o.wrap, cpSeq: -1}
 	fail := func(err error) (*DirStore, error) {
 		s.Close()
 		return nil, fmt.Errorf("records directory %s: %w", dir, err)
@@ -665,8 +669,9 @@ func (s *DirStore) writeImmutable(name string, data []byte) error {
 }
 
 // checkEntry checks the two files of ledger line n, the record's own
-// digest, and that the line says what the record says.
-func checkEntry(root *os.Root, e LedgerEntry, n int) error {
+// digest (and its signature with pub, when set), and that the line says
+// what the record says.
+func checkEntry(root *os.Root, e LedgerEntry, n int, pub ed25519.PublicKey) error {
 	var rec []byte
 	for _, f := range []struct{ name, sum string }{{recordName(e.ID), e.RecordSHA256}, {cardName(e.ID), e.CardSHA256}} {
 		b, err := root.ReadFile(f.name)
@@ -682,7 +687,7 @@ func checkEntry(root *os.Root, e LedgerEntry, n int) error {
 	}
 	r, err := checks.ParseRecord(rec)
 	if err == nil {
-		err = r.VerifyIntegrity(nil)
+		err = r.VerifyIntegrity(pub)
 	}
 	if err != nil {
 		return fmt.Errorf("%s:%d: %s: %w", LedgerName, n, recordName(e.ID), err)
@@ -714,9 +719,21 @@ func sha256Hex(b []byte) string {
 
 // LedgerReport is what VerifyLedger found.
 type LedgerReport struct {
-	Entries int   // ledger lines read
-	Files   int   // record and card files checked
-	Break   error // the first break, nil when the directory is intact
+	Entries     int   // ledger lines read
+	Files       int   // record and card files checked
+	Checkpoints int   // checkpoints the ledger holds
+	Break       error // the first break, nil when the directory is intact
+}
+
+// LedgerCheck asks VerifyLedger for more than the directory itself can
+// show. A nil *LedgerCheck asks for nothing more.
+type LedgerCheck struct {
+	// PublicKey, when set, is serve's signing key: every record must carry
+	// a valid signature of it, and so must every checkpoint.
+	PublicKey ed25519.PublicKey
+	// Checkpoints kept elsewhere by an auditor: the ledger must still
+	// have each one's line with its hash.
+	Checkpoints []Checkpoint
 }
 
 // VerifyLedger walks the ledger chain of a records directory and every
@@ -724,9 +741,13 @@ type LedgerReport struct {
 // file exists with the sha256 the ledger holds, each record's own digest
 // matches its content, each line's card, revision, verdict, created and
 // digests are the record's, and no record or card file is missing from
-// the ledger. It reads only, and takes no lock. The returned error is for a
-// directory that cannot be read; a break is in the report.
-func VerifyLedger(dir string) (LedgerReport, error) {
+// the ledger; and what o asks besides. It reads only, and takes no lock.
+// The returned error is for a directory that cannot be read; a break is in
+// the report.
+func VerifyLedger(dir string, o *LedgerCheck) (LedgerReport, error) {
+	if o == nil {
+		o = &LedgerCheck{}
+	}
 	var rep LedgerReport
 	root, err := os.OpenRoot(dir)
 	if err != nil {
@@ -747,6 +768,20 @@ func VerifyLedger(dir string) (LedgerReport, error) {
 		rep.Break = brk
 		return rep, nil
 	}
+	hashes := lineHashes(data)
+	for _, c := range o.Checkpoints {
+		err := checkCheckpoint(hashes, c)
+		if err == nil && o.PublicKey != nil {
+			if err = c.VerifySignature(o.PublicKey); err != nil {
+				err = fmt.Errorf("%s: signature: %w", c.String(), err)
+			}
+		}
+		if err != nil {
+			rep.Break = err
+			return rep, nil
+		}
+		rep.Checkpoints++
+	}
 	// Every entry's files and record digest, on all cores (a record is
 	// some 0.7 MB and its RFC 8785 digest takes tens of milliseconds);
 	// the first break in ledger order is reported.
@@ -760,7 +795,7 @@ func VerifyLedger(dir string) (LedgerReport, error) {
 	for range runtime.GOMAXPROCS(0) {
 		wg.Go(func() {
 			for i := int(next.Add(1) - 1); i < len(entries); i = int(next.Add(1) - 1) {
-				errs[i] = checkEntry(root, entries[i], i+1)
+				errs[i] = checkEntry(root, entries[i], i+1, o.PublicKey)
 			}
 		})
 	}
@@ -776,7 +811,7 @@ func VerifyLedger(dir string) (LedgerReport, error) {
 		if err != nil {
 			return err
 		}
-		if d.IsDir() || p == LedgerName || p == ".lock" || path.Base(p)[0] == '.' {
+		if d.IsDir() || p == LedgerName || p == CheckpointsName || p == ".lock" || path.Base(p)[0] == '.' {
 			return nil
 		}
 		if !named[p] && rep.Break == nil {

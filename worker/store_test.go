@@ -1,11 +1,14 @@
 package worker
 
 import (
+	"bytes"
 	"context"
+	"crypto/ed25519"
 	"errors"
 	"os"
 	"path/filepath"
 	"strings"
+	"sync"
 	"testing"
 	"time"
 )
@@ -13,20 +16,32 @@ import (
 func errorsIs(err, target error) bool { return errors.Is(err, target) }
 
 // storeOutputs verifies a demo card in-process and returns its job id and
-// the bytes the store keeps.
-func storeOutputs(t *testing.T, file string) (id string, rec, card []byte) {
+// the bytes the store keeps (copies of one verification per card: the
+// outputs are the same every time, stamped with a fixed time).
+func storeOutputs(t testing.TB, file string) (id string, rec, card []byte) {
 	t.Helper()
-	c := loadTestCard(t, filepath.Join("..", "testdata", "cards", file))
-	out, err := Verify(context.Background(), c, testTool, time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC))
-	if err != nil {
-		t.Fatal(err)
+	type outputs struct {
+		id        string
+		rec, card []byte
 	}
-	rec, err = RecordJSON(out.Record)
-	if err != nil {
-		t.Fatal(err)
+	o, ok := storeOutputsMemo.Load(file)
+	if !ok {
+		c := loadTestCard(t, filepath.Join("..", "testdata", "cards", file))
+		out, err := Verify(context.Background(), c, testTool, time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC))
+		if err != nil {
+			t.Fatal(err)
+		}
+		rec, err := RecordJSON(out.Record)
+		if err != nil {
+			t.Fatal(err)
+		}
+		o, _ = storeOutputsMemo.LoadOrStore(file, outputs{JobID(c.Digest, Settings{ToolVersion: testTool.Version}), rec, out.Card})
 	}
-	return JobID(c.Digest, Settings{ToolVersion: testTool.Version}), rec, out.Card
+	v := o.(outputs)
+	return v.id, bytes.Clone(v.rec), bytes.Clone(v.card)
 }
+
+var storeOutputsMemo sync.Map // file -> outputs
 
 func TestDirStorePutIdempotent(t *testing.T) {
 	dir := t.TempDir()
@@ -58,7 +73,7 @@ func TestDirStorePutIdempotent(t *testing.T) {
 	id2, rec2, card2 := storeOutputs(t, "steel-prager.json")
 	os.MkdirAll(filepath.Join(dir, id2[:2]), 0o755)
 	os.WriteFile(filepath.Join(dir, recordName(id2)), rec2, 0o444)
-	if rep, _ := VerifyLedger(dir); rep.Break == nil || !strings.Contains(rep.Break.Error(), "not in the ledger") {
+	if rep, _ := VerifyLedger(dir, nil); rep.Break == nil || !strings.Contains(rep.Break.Error(), "not in the ledger") {
 		t.Errorf("left-over file: ledger verify says %v", rep.Break)
 	}
 	s, err = OpenDirStore(dir)
@@ -89,9 +104,9 @@ func TestDirStorePutIdempotent(t *testing.T) {
 // TestLedgerVerify damages an intact directory in each of the ways an
 // auditor must see and checks that ledger verify reports the first break.
 func TestLedgerVerify(t *testing.T) {
-	build := storeDemoCards
+	build := func(t *testing.T) (string, []string) { return storeDemoCards(t, nil) }
 	dir, _ := build(t)
-	if rep, err := VerifyLedger(dir); err != nil || rep.Break != nil || rep.Entries != 3 || rep.Files != 6 {
+	if rep, err := VerifyLedger(dir, nil); err != nil || rep.Break != nil || rep.Entries != 3 || rep.Files != 6 {
 		t.Fatalf("intact directory: %+v %v", rep, err)
 	}
 	ledgerLines := func(dir string) []string {
@@ -130,7 +145,7 @@ func TestLedgerVerify(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			dir, ids := build(t)
 			tc.damage(dir, ids)
-			rep, err := VerifyLedger(dir)
+			rep, err := VerifyLedger(dir, nil)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -150,14 +165,15 @@ func TestLedgerVerify(t *testing.T) {
 		t.Fatal(err)
 	}
 	s.Close()
-	if rep, _ := VerifyLedger(dir); rep.Break != nil || rep.Entries != 3 {
+	if rep, _ := VerifyLedger(dir, nil); rep.Break != nil || rep.Entries != 3 {
 		t.Errorf("after reopening: %+v", rep)
 	}
 }
 
 // storeDemoCards returns a records directory holding the demo cards'
-// outputs, and their ids.
-func storeDemoCards(t *testing.T) (string, []string) {
+// outputs, stored as serve stores them (admit; signed with key unless it
+// is nil), and their ids.
+func storeDemoCards(t *testing.T, key ed25519.PrivateKey) (string, []string) {
 	t.Helper()
 	dir := t.TempDir()
 	s, err := OpenDirStore(dir)
@@ -168,7 +184,11 @@ func storeDemoCards(t *testing.T) (string, []string) {
 	var ids []string
 	for _, f := range demoCards {
 		id, rec, card := storeOutputs(t, f)
-		if _, err := putJSON(t, s, id, rec, card); err != nil {
+		a, err := admit(id, rec, card, key)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, err := s.Put(id, a.meta, a.record, card); err != nil {
 			t.Fatal(err)
 		}
 		ids = append(ids, id)

@@ -181,7 +181,7 @@ func TestStoreDiskFaults(t *testing.T) {
 		t.Errorf("Ping after a successful Put: %v", err)
 	}
 	s.Close()
-	if rep, err := VerifyLedger(dir); err != nil || rep.Break != nil || rep.Entries != len(outs) {
+	if rep, err := VerifyLedger(dir, nil); err != nil || rep.Break != nil || rep.Entries != len(outs) {
 		t.Errorf("after recovery: %+v %v", rep, err)
 	}
 	if m, _ := filepath.Glob(filepath.Join(dir, "*", ".tmp-*")); len(m) > 0 {
@@ -267,7 +267,7 @@ func TestStoreOpen(t *testing.T) {
 	if m, _ := filepath.Glob(filepath.Join(dir, "*", ".tmp-*")); len(m) > 0 {
 		t.Errorf("temporary files left: %v", m)
 	}
-	if rep, err := VerifyLedger(dir); err != nil || rep.Break != nil || rep.Entries != 1 {
+	if rep, err := VerifyLedger(dir, nil); err != nil || rep.Break != nil || rep.Entries != 1 {
 		t.Errorf("after reopening: %+v %v", rep, err)
 	}
 
@@ -336,7 +336,7 @@ func TestStoreTmpfsFull(t *testing.T) {
 			t.Fatalf("%s: put with the space back: %v %v", f, added, err)
 		}
 	}
-	if rep, err := VerifyLedger(records); err != nil || rep.Break != nil || rep.Entries != len(ids) {
+	if rep, err := VerifyLedger(records, nil); err != nil || rep.Break != nil || rep.Entries != len(ids) {
 		t.Errorf("after the full disks: %+v %v", rep, err)
 	}
 	if m, _ := filepath.Glob(filepath.Join(records, "*", ".tmp-*")); len(m) > 0 {
@@ -359,7 +359,7 @@ func TestLedgerVerifyAgainstRecords(t *testing.T) {
 		{"digest", func(e *LedgerEntry) { e.Digest = "sha256:" + strings.Repeat("0", 64) }, "ledger.jsonl:2: the line says digest sha256:000"},
 		{"card digest", func(e *LedgerEntry) { e.CardDigest = "sha256:" + strings.Repeat("1", 64) }, "ledger.jsonl:2: the line says card_digest sha256:111"},
 	}
-	dir, _ := storeDemoCards(t)
+	dir, _ := storeDemoCards(t, nil)
 	intact, _ := os.ReadFile(filepath.Join(dir, LedgerName))
 	for _, tc := range tests {
 		// Edit line 2 and recompute prev of every line, as someone who
@@ -380,13 +380,13 @@ func TestLedgerVerifyAgainstRecords(t *testing.T) {
 			out = append(append(out, b...), '\n')
 		}
 		os.WriteFile(filepath.Join(dir, LedgerName), out, 0o644)
-		rep, err := VerifyLedger(dir)
+		rep, err := VerifyLedger(dir, nil)
 		if err != nil || rep.Break == nil || !strings.Contains(rep.Break.Error(), tc.want) {
 			t.Errorf("%s edited: break %v (%v), want %q", tc.name, rep.Break, err, tc.want)
 		}
 	}
 	os.WriteFile(filepath.Join(dir, LedgerName), intact, 0o644)
-	if rep, err := VerifyLedger(dir); err != nil || rep.Break != nil {
+	if rep, err := VerifyLedger(dir, nil); err != nil || rep.Break != nil {
 		t.Errorf("the intact ledger: %+v %v", rep, err)
 	}
 }

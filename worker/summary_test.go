@@ -66,7 +66,7 @@ func TestSummary(t *testing.T) {
 	if got, err := s.Summary(id2); err != nil || got.Checks != nil || got.Digest != m.Digest || got.Card.Digest != m.CardDigest || got.Verdict != m.Verdict {
 		t.Errorf("summary from the ledger: %+v %v", got, err)
 	}
-	if rep, err := VerifyLedger(dir); err != nil || rep.Break != nil {
+	if rep, err := VerifyLedger(dir, nil); err != nil || rep.Break != nil {
 		t.Fatalf("intact directory: %+v %v", rep, err)
 	}
 
@@ -75,7 +75,7 @@ func TestSummary(t *testing.T) {
 	b, _ := os.ReadFile(p)
 	os.Chmod(p, 0o644)
 	os.WriteFile(p, []byte(strings.Replace(string(b), `"verdict":"`+r.Verdict, `"verdict":"x`+r.Verdict, 1)), 0o644)
-	if rep, err := VerifyLedger(dir); err != nil || rep.Break == nil || !strings.Contains(rep.Break.Error(), summaryName(id)) {
+	if rep, err := VerifyLedger(dir, nil); err != nil || rep.Break == nil || !strings.Contains(rep.Break.Error(), summaryName(id)) {
 		t.Errorf("changed summary: %+v %v", rep, err)
 	}
 }

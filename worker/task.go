@@ -128,18 +128,16 @@ func TaskTimeout(budget time.Duration) time.Duration {
 }
 
 // materializePayload names the record to materialize and carries the
-// verification's duration for the metrics of serve.
-// Meta, the record's ledger fields, is empty when the handler found the
-// record already written (a retried task); the materializer then reads
-// them from the record.
+// verification's duration for the metrics of serve. The record's ledger
+// fields are read from the record, which serve checks (admit), not taken
+// from the payload.
 type materializePayload struct {
-	ID      string     `json:"id"`
-	Seconds float64    `json:"seconds"`
-	Meta    RecordMeta `json:"meta"`
+	ID      string  `json:"id"`
+	Seconds float64 `json:"seconds"`
 }
 
-func newMaterializeTask(id string, seconds float64, m RecordMeta) *asynq.Task {
-	b, _ := json.Marshal(materializePayload{ID: id, Seconds: seconds, Meta: m}) // strings, ints and a finite float
+func newMaterializeTask(id string, seconds float64) *asynq.Task {
+	b, _ := json.Marshal(materializePayload{ID: id, Seconds: seconds}) // a string and a finite float
 	return asynq.NewTask(TypeMaterialize, b,
 		asynq.TaskID("m-"+id),
 		asynq.Queue(QueueMaterialize),

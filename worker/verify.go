@@ -45,8 +45,12 @@ func Spec(c *schema.Card) (checks.Spec, error) {
 // Outputs are what one verification produces.
 type Outputs struct {
 	Record *checks.Record
-	Card   []byte          // the neutral card: the canonical card, indented JSON
-	Tables []convert.Table // tabulated curves of the neutral card
+	// RecordJSON is Record in its stored form (RecordJSON), made with
+	// it from one encoding; a change to Record (Sign) needs RecordJSON
+	// again.
+	RecordJSON []byte
+	Card       []byte          // the neutral card: the canonical card, indented JSON
+	Tables     []convert.Table // tabulated curves of the neutral card
 	// Diagnoses say, for each reference curve, which usual misreading of
 	// the card explains its failure, or matches it far better than the card
 	// as written although it passes (see checks.Diagnose). The record's
@@ -80,11 +84,11 @@ func Verify(ctx context.Context, c *schema.Card, tool checks.Tool, created time.
 	if err != nil {
 		return nil, err
 	}
-	rec, err := checks.NewRecord(res, checks.RecordCard{ID: c.ID, Revision: c.Revision, Digest: c.Digest, Canonical: canon}, tool, created)
+	rec, recJSON, err := checks.NewRecordJSON(res, checks.RecordCard{ID: c.ID, Revision: c.Revision, Digest: c.Digest, Canonical: canon}, tool, created)
 	if err != nil {
 		return nil, fmt.Errorf("record of %s: %w", c.ID, err)
 	}
-	card, err := convert.Indented(c)
+	card, err := convert.Indent(canon)
 	if err != nil {
 		return nil, err
 	}
@@ -92,7 +96,7 @@ func Verify(ctx context.Context, c *schema.Card, tool checks.Tool, created time.
 	if err != nil {
 		return nil, err
 	}
-	return &Outputs{Record: rec, Card: card, Tables: tables, Diagnoses: diags}, nil
+	return &Outputs{Record: rec, RecordJSON: append(recJSON, '\n'), Card: card, Tables: tables, Diagnoses: diags}, nil
 }
 
 // SpecDiagnostic words a spec that the verification refused

@@ -42,8 +42,11 @@ type Config struct {
 		TokenBurst      int           `mapstructure:"token_burst"`      // requests a token may make at once above the rate
 	} `mapstructure:"server"`
 	Store struct {
-		Dir    string `mapstructure:"dir"`    // the records directory (serve only)
-		Create bool   `mapstructure:"create"` // make dir a records directory if it is not one
+		Dir                string        `mapstructure:"dir"`                 // the records directory (serve only)
+		Create             bool          `mapstructure:"create"`              // make dir a records directory if it is not one
+		SignKey            string        `mapstructure:"sign_key"`            // ed25519 private key (PEM) that signs records and checkpoints; "": beside dir
+		ReconcileInterval  time.Duration `mapstructure:"reconcile_interval"`  // how often serve stores records left in Redis
+		CheckpointInterval time.Duration `mapstructure:"checkpoint_interval"` // how often serve appends a signed checkpoint
 	} `mapstructure:"store"`
 	Auth struct {
 		Tokens []worker.Token `mapstructure:"tokens"`
@@ -61,21 +64,24 @@ type Config struct {
 // invisible to environment variables (viper reads the environment only
 // for keys it knows).
 var configDefaults = map[string]any{
-	"redis.url":               "redis://127.0.0.1:6379/0",
-	"redis.ca_file":           "",
-	"server.max_in_flight":    worker.DefaultMaxInFlight,
-	"server.token_rate":       worker.DefaultTokenRate,
-	"server.token_burst":      worker.DefaultTokenBurst,
-	"server.listen":           "127.0.0.1:8080",
-	"server.read_timeout":     "30s",
-	"server.write_timeout":    "60s",
-	"server.shutdown_timeout": "30s",
-	"store.dir":               "matgate-records",
-	"store.create":            false,
-	"auth.tokens":             []any{},
-	"worker.concurrency":      0,
-	"verify.profile":          schema.ProfileStandard,
-	"verify.budget":           worker.DefaultBudget.String(),
+	"redis.url":                 "redis://127.0.0.1:6379/0",
+	"redis.ca_file":             "",
+	"server.listen":             "127.0.0.1:8080",
+	"server.max_in_flight":      worker.DefaultMaxInFlight,
+	"server.token_rate":         worker.DefaultTokenRate,
+	"server.token_burst":        worker.DefaultTokenBurst,
+	"server.read_timeout":       "30s",
+	"server.write_timeout":      "60s",
+	"server.shutdown_timeout":   "30s",
+	"store.dir":                 "matgate-records",
+	"store.create":              false,
+	"store.sign_key":            "",
+	"store.reconcile_interval":  worker.DefaultReconcileInterval.String(),
+	"store.checkpoint_interval": worker.DefaultCheckpointInterval.String(),
+	"auth.tokens":               []any{},
+	"worker.concurrency":        0,
+	"verify.profile":            schema.ProfileStandard,
+	"verify.budget":             worker.DefaultBudget.String(),
 }
 
 // addConfigFlag adds --config to a command.
@@ -166,7 +172,8 @@ func (c *Config) Validate() error {
 	for _, d := range []struct {
 		key string
 		v   time.Duration
-	}{{"server.read_timeout", c.Server.ReadTimeout}, {"server.write_timeout", c.Server.WriteTimeout}, {"server.shutdown_timeout", c.Server.ShutdownTimeout}} {
+	}{{"server.read_timeout", c.Server.ReadTimeout}, {"server.write_timeout", c.Server.WriteTimeout}, {"server.shutdown_timeout", c.Server.ShutdownTimeout},
+		{"store.reconcile_interval", c.Store.ReconcileInterval}, {"store.checkpoint_interval", c.Store.CheckpointInterval}} {
 		if d.v <= 0 {
 			bad(d.key, "%v: want a positive duration such as 30s", d.v)
 		}

@@ -4,8 +4,15 @@ import (
 	"crypto/ed25519"
 	"crypto/x509"
 	"encoding/pem"
+	"errors"
 	"fmt"
+	"io/fs"
+	"log/slog"
 	"os"
+	"path/filepath"
+	"strings"
+
+	"matgate/checks"
 )
 
 // readPrivateKey reads an ed25519 private key, PEM-encoded PKCS #8 ("PRIVATE
@@ -91,4 +98,38 @@ func writeKeyPair(prefix string) (ed25519.PublicKey, error) {
 		}
 	}
 	return pub, nil
+}
+
+// signKeyPath is the private key with which serve signs records and
+// checkpoints: store.sign_key, or, when that is empty, DIR.sign.key beside
+// the records directory DIR (outside it, so that a copy of the records
+// never carries the key). configured says which.
+func (c *Config) signKeyPath() (path string, configured bool) {
+	if c.Store.SignKey != "" {
+		return c.Store.SignKey, true
+	}
+	return filepath.Clean(c.Store.Dir) + ".sign.key", false
+}
+
+// serveSignKey reads serve's signing key. When store.sign_key is not set
+// and DIR.sign.key does not exist (the records directory's first start),
+// it makes a key pair there (DIR.sign.key, mode 0600, and DIR.sign.pub)
+// and logs where; a configured key that is missing is an error.
+func serveSignKey(c *Config, log *slog.Logger) (ed25519.PrivateKey, error) {
+	path, configured := c.signKeyPath()
+	priv, err := readPrivateKey(path)
+	if err == nil || configured || !errors.Is(err, fs.ErrNotExist) {
+		if err != nil {
+			return nil, invalid("store.sign_key: %v", err)
+		}
+		return priv, nil
+	}
+	prefix := strings.TrimSuffix(path, ".key")
+	pub, err := writeKeyPair(prefix)
+	if err != nil {
+		return nil, &exitError{code: exitInternal, err: fmt.Errorf("make the signing key %s: %w", path, err)}
+	}
+	log.Warn("store: made a new signing key for records and ledger checkpoints; give auditors the public key",
+		"key", path, "public_key", prefix+".pub", "key_id", checks.KeyID(pub))
+	return readPrivateKey(path)
 }

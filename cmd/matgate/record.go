@@ -34,12 +34,15 @@ func newRecordVerifyCmd(e *env) *cobra.Command {
 	c := &cobra.Command{
 		Use:   "verify RECORD",
 		Short: "Check a record's digest and signature and that it reproduces",
-		Long: `verify reads the record strictly (a field that matgate.record/1 does not
-define, or data after the record, fails: the digest covers only the
-fields it knows, so an added field would otherwise pass unseen),
+		Long: `verify reads the record strictly (a field that its format, matgate.record/2
+or the earlier matgate.record/1, does not define, or data after the
+record, fails: the digest covers only the fields it knows, so an added
+field would otherwise pass unseen),
 recomputes the record's digest, checks its ed25519 signature with
 --public-key, and re-runs the verification from the canonical card the
-record embeds and compares every case and check.
+record embeds and compares every case and check (a matgate.record/1
+series kept increments that matgate.record/2 leaves out: the re-run's
+series must be part of it).
 
 A record without a signature is reported as unsigned: nothing then shows
 who made it. It fails with --require-signature, and always with
@@ -73,7 +76,7 @@ cannot be read.`,
 			}
 			rec, err := checks.ParseRecord(b)
 			if err != nil {
-				report("FAIL", "read as matgate.record/1: "+err.Error())
+				report("FAIL", "read as a verification record: "+err.Error())
 				return notIntact()
 			}
 			err = rec.VerifyIntegrity(pub)
@@ -145,13 +148,12 @@ func reproduce(cmd *cobra.Command, rec *checks.Record) (bool, string) {
 		return false, ": " + err.Error()
 	}
 	// The re-run carries the record's tool and created, so it reproduces
-	// when its digest equals that of the record's content: card, settings,
-	// every case and check, findings and verdict.
-	want, err := rec.ComputeDigest()
+	// when it has the record's content (checks.Record.Reproduces).
+	ok, err := rec.Reproduces(out.Record)
 	if err != nil {
 		return false, ": " + err.Error()
 	}
-	if out.Record.Digest != want {
+	if !ok {
 		return false, ": the re-run differs from the record (another tool version, or the record was edited)"
 	}
 	return true, ""

@@ -94,7 +94,7 @@ applicable codes and licensed engineers.`,
 	root.SetVersionTemplate("matgate {{matgateVersion}}\n")
 	root.AddCommand(newVersionCmd(e), newCheckCmd(e), newNormalizeCmd(e), newSchemaCmd(e),
 		newVerifyCmd(e), newSimulateCmd(e), newRecordCmd(e))
-	root.AddCommand(newServeCmd(e), newWorkerCmd(e), newSubmitCmd(e), newLedgerCmd(e), newTokenCmd(e))
+	root.AddCommand(newServeCmd(e), newWorkerCmd(e), newSubmitCmd(e), newLedgerCmd(e), newStoreCmd(e), newTokenCmd(e))
 	root.AddCommand(newFitCmd(e), newCompareCmd(e))
 	for _, c := range root.Commands() {
 		wrapArgs(c)

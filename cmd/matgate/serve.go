@@ -21,8 +21,14 @@ func newServeCmd(e *env) *cobra.Command {
 		Long: `serve answers the HTTP API (POST /v1/cards, GET /v1/jobs/{id},
 /v1/records..., /healthz, /readyz, /metrics), enqueues verifications on
 Redis for matgate worker processes, and is the one writer of the records
-directory: it turns each finished record into immutable files and a ledger
-line. Stop it with SIGTERM or Ctrl-C: requests in flight finish, the
+directory: it checks each finished record that a worker left in Redis
+(its digest and verdict hold, it is the job's card), signs it with its
+key (store.sign_key; made beside the records directory on the first
+start when not set) and turns it into immutable files and a ledger line.
+Every store.reconcile_interval it stores the records that Redis holds and
+the directory does not (after the directory failed); every
+store.checkpoint_interval it appends a signed checkpoint of the ledger to
+checkpoints.jsonl for auditors to keep (matgate ledger checkpoint). Stop it with SIGTERM or Ctrl-C: requests in flight finish, the
 materialize task in flight goes back to the queue.
 
 Configuration: defaults < --config file < MATGATE_* environment < flags;
@@ -58,6 +64,10 @@ func serve(ctx context.Context, e *env, cfg *Config, ready func(addr string)) er
 		return &exitError{code: exitInternal, err: err}
 	}
 	defer store.Close()
+	key, err := serveSignKey(cfg, log)
+	if err != nil {
+		return err
+	}
 	client := asynq.NewClientFromRedisClient(rdb)
 	defer client.Close()
 	insp := asynq.NewInspectorFromRedisClient(rdb)
@@ -72,12 +82,20 @@ func serve(ctx context.Context, e *env, cfg *Config, ready func(addr string)) er
 	if err != nil {
 		return invalid("configuration: %v", err)
 	}
-	msrv, mux := worker.NewMaterializeServer(rdb, &worker.Materializer{Redis: rdb, Store: store, Observe: metrics.Duration.Observe, Log: log},
+	mat := &worker.Materializer{Redis: rdb, Store: store, Key: key, Inspector: insp, Observe: metrics.Duration.Observe, Log: log}
+	msrv, mux := worker.NewMaterializeServer(rdb, mat,
 		worker.ServerOptions{ShutdownTimeout: cfg.Server.ShutdownTimeout, Logger: asynqLogger{log}, LogLevel: asynq.WarnLevel})
 	if err := msrv.Start(mux); err != nil {
 		return &exitError{code: exitInternal, err: fmt.Errorf("materialize queue: %w", err)}
 	}
 	defer msrv.Shutdown()
+	upkeep, stopUpkeep := context.WithCancel(ctx)
+	upkeepDone := make(chan struct{})
+	go func() {
+		defer close(upkeepDone)
+		worker.Upkeep(upkeep, mat, worker.UpkeepOptions{Reconcile: cfg.Store.ReconcileInterval, Checkpoint: cfg.Store.CheckpointInterval})
+	}()
+	defer func() { stopUpkeep(); <-upkeepDone }()
 	hs := worker.NewHTTPServer(cfg.Server.Listen, api, worker.HTTPTimeouts{Read: cfg.Server.ReadTimeout, Write: cfg.Server.WriteTimeout})
 	ln, err := net.Listen("tcp", cfg.Server.Listen)
 	if err != nil {

@@ -139,12 +139,12 @@ func TestServiceCommands(t *testing.T) {
 	}
 	for _, base := range []string{"demo-canopy-aluminium-r2", "demo-canopy-hanger-r1", "demo-canopy-stainless-r1", "demo-canopy-steel-r4"} {
 		a, b := readRecord(t, filepath.Join(out, base+".record.json")), readRecord(t, filepath.Join(local, base+".record.json"))
-		for _, k := range []string{"created", "digest"} {
+		for _, k := range []string{"created", "digest", "signature"} {
 			delete(a, k)
 			delete(b, k)
 		}
 		if ja, jb := mustJSON(t, a), mustJSON(t, b); ja != jb {
-			t.Errorf("%s: the queued record differs from matgate verify's beyond created and digest", base)
+			t.Errorf("%s: the queued record differs from matgate verify's beyond created, digest and signature", base)
 		}
 		ca, _ := os.ReadFile(filepath.Join(out, base+".card.json"))
 		cb, _ := os.ReadFile(filepath.Join(local, base+".card.json"))
@@ -160,6 +160,7 @@ func TestServiceCommands(t *testing.T) {
 	if a, b := storeFiles(t, store), storeFiles(t, localStore); strings.Join(a, " ") != strings.Join(b, " ") || len(a) != 12 { // a record, a card and a summary each
 		t.Errorf("records directories hold different files:\n serve  %v\n verify %v", a, b)
 	}
+	trustCommands(t, cfg, store, filepath.Join(out, "demo-canopy-steel-r4.record.json"), serveLog)
 	// A second submission is answered from the records (303) and gives
 	// the same outcome.
 	if code, stdout, _ := matgate(t, "", "submit", "--server", "http://"+addr, "--out", out, "../../testdata/cards/steel-prager.json"); code != exitPass {
@@ -363,5 +364,46 @@ func TestConfigRedisTLS(t *testing.T) {
 	defer rdb.Close()
 	if o := rdb.Options(); o.TLSConfig == nil || o.TLSConfig.RootCAs == nil || o.TLSConfig.ServerName != "redis.example" {
 		t.Errorf("TLS config %+v", o.TLSConfig)
+	}
+}
+
+// trustCommands: serve made its signing key beside the records directory
+// and said where; a record it stored checks with the public key; a
+// checkpoint of the ledger holds, and an edited one does not; nothing is
+// pending; --replay refuses to run beside serve (the directory's lock).
+func trustCommands(t *testing.T, cfg, store, record string, serveLog *syncBuffer) {
+	t.Helper()
+	pub := store + ".sign.pub"
+	if !strings.Contains(serveLog.String(), "made a new signing key") || !strings.Contains(serveLog.String(), pub) {
+		t.Errorf("serve did not say where it made its signing key:\n%s", serveLog)
+	}
+	if st, err := os.Stat(store + ".sign.key"); err != nil || st.Mode().Perm() != 0o600 {
+		t.Errorf("signing key: %v", err)
+	}
+	if code, o, e := matgate(t, "", "record", "verify", "--public-key", pub, record); code != exitPass || !strings.Contains(o, "checked with --public-key") {
+		t.Errorf("record verify --public-key: exit %d\n%s%s", code, o, e)
+	}
+	code, cp, e := matgate(t, "", "ledger", "checkpoint", store)
+	if code != exitPass || !strings.Contains(cp, `"seq": 4`) {
+		t.Fatalf("ledger checkpoint: exit %d\n%s%s", code, cp, e)
+	}
+	dir := t.TempDir()
+	good, bad := filepath.Join(dir, "cp.json"), filepath.Join(dir, "cp-edited.json")
+	os.WriteFile(good, []byte(cp), 0o644)
+	os.WriteFile(bad, []byte(strings.Replace(cp, `"seq": 4`, `"seq": 3`, 1)), 0o644)
+	if code, o, e := matgate(t, "", "ledger", "verify", "--checkpoint", good, "--public-key", pub, store); code != exitPass || !strings.Contains(o, "1 checkpoint(s) held, every signature checked") {
+		t.Errorf("ledger verify --checkpoint: exit %d\n%s%s", code, o, e)
+	}
+	if code, o, _ := matgate(t, "", "ledger", "verify", "--checkpoint", bad, store); code != exitFailed || !strings.Contains(o, "line 3 has sha256") {
+		t.Errorf("ledger verify with a checkpoint of another line: exit %d\n%s", code, o)
+	}
+	if code, o, _ := matgate(t, "", "ledger", "verify", "--checkpoint", bad, "--public-key", pub, store); code != exitFailed || !strings.Contains(o, "BROKEN") {
+		t.Errorf("ledger verify with an edited checkpoint: exit %d\n%s", code, o)
+	}
+	if code, o, e := matgate(t, "", "store", "pending", "--config", cfg, "--store", store); code != exitPass || !strings.Contains(o, "0 record(s) in Redis and not in") {
+		t.Errorf("store pending: exit %d\n%s%s", code, o, e)
+	}
+	if code, _, e := matgate(t, "", "store", "pending", "--replay", "--config", cfg, "--store", store); code != exitInternal || !strings.Contains(e, "another process writes this directory") {
+		t.Errorf("store pending --replay beside serve: exit %d\n%s", code, e)
 	}
 }

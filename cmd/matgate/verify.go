@@ -34,7 +34,7 @@ func newVerifyCmd(e *env) *cobra.Command {
 		Long: `verify checks each card, runs the standard verification cases on the
 reference integrator and writes, per card, into --out:
 
-  <id>-r<revision>.record.json    the verification record (matgate.record/1)
+  <id>-r<revision>.record.json    the verification record (matgate.record/2)
   <id>-r<revision>.card.json      the neutral card (canonical, SI units)
   <id>-r<revision>.monotonic.csv  monotonic tension: strain, plastic strain, stress
   <id>-r<revision>.cyclic.csv     stabilized cyclic curve from the loop tips
@@ -254,17 +254,17 @@ func verifyOne(cmd *cobra.Command, e *env, name string, opt verifyOptions) verif
 	if err != nil {
 		return fail(err)
 	}
+	rec := out.RecordJSON
 	if opt.priv != nil {
 		if err := out.Record.Sign(opt.priv); err != nil {
+			return fail(err)
+		}
+		if rec, err = worker.RecordJSON(out.Record); err != nil {
 			return fail(err)
 		}
 	}
 	o.fromRecord(out.Record)
 	o.wordFindings(l.doc.Card, out.Diagnoses)
-	rec, err := worker.RecordJSON(out.Record)
-	if err != nil {
-		return fail(err)
-	}
 	files := map[string][]byte{
 		base + ".record.json": rec,
 		base + ".card.json":   out.Card,

@@ -115,11 +115,11 @@ func TestRecordVerify(t *testing.T) {
 		t.Errorf("wrong key: exit %d, want 1\n%s", code, out)
 	}
 	b, _ := os.ReadFile(rec)
-	i := strings.Index(string(b), `"revision": 4`)
+	i := strings.Index(string(b), `"revision":4`)
 	if i < 0 {
 		t.Fatal("record has no revision 4")
 	}
-	b[i+len(`"revision": `)] = '5'
+	b[i+len(`"revision":`)] = '5'
 	tampered := filepath.Join(dir, "tampered.json")
 	os.WriteFile(tampered, b, 0o644)
 	if code, out, _ := matgate(t, "", "record", "verify", "--public-key", key+".pub", tampered); code != exitFailed || !strings.Contains(out, "FAIL digest") {

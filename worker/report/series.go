@@ -37,13 +37,14 @@ const referenceKind = "reference-curve"
 func readCase(c checks.Case) caseData {
 	var d caseData
 	shear := false
-	for _, s := range c.Series {
+	samples := c.Series.Samples()
+	for _, s := range samples {
 		if s.ShearStrain != 0 || s.ShearStress != 0 {
 			shear = true
 			break
 		}
 	}
-	for i, s := range c.Series {
+	for i, s := range samples {
 		if i == 0 || s.Gap {
 			d.Runs = append(d.Runs, nil)
 			if shear {

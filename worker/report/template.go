@@ -144,7 +144,7 @@ td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 <div class="caseinfo">
 <div>{{.Loading}}</div>
 {{range .Findings}}<div class="diag">Finding{{with .Misreading}} ({{.}}){{end}}{{if .Passed}} on a passing check{{end}}: {{.Text}}</div>{{end}}
-{{if .Gaps}}<div class="small muted">The plot draws the first and the last increments of this long run; the line breaks where increments are left out.</div>{{end}}
+{{if .Plots}}<div class="small muted">The record keeps the response thinned: no increment left out lies further from the drawn line than 0.1 % of an axis range (doubled when a case would need more than 120 points).{{if .Gaps}} This long run keeps its first and last increments; the line breaks where increments are left out.{{end}}</div>{{end}}
 {{with .Measures}}<div class="small muted">Measured, not checked: {{range $i, $m := .}}{{if $i}}; {{end}}{{$m}}{{end}}.</div>{{end}}
 {{range .Omitted}}<div class="small muted">Not applicable: {{.Check}}: {{.Why}}</div>{{end}}
 </div></div>
@@ -170,7 +170,7 @@ td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 <tr><th>profile, algorithm</th><td>{{.R.Settings.Profile}}, {{.R.Settings.Algorithm}}</td></tr>
 <tr><th>step-size rerun</th><td>{{.R.Settings.Refinement}}</td></tr>
 <tr><th>stabilized cycle</th><td>{{.Stabilized}}</td></tr>
-<tr><th>increments per case (in the rerun)</th><td>{{range $i, $c := .R.Settings.Cases}}{{if $i}}; {{end}}{{$c.Case}}: {{$c.Control}} control, {{$c.Increments}} ({{$c.Rerun}}){{with $c.Algorithm}}, algorithm {{.}}{{end}}{{end}}</td></tr>
+<tr><th>increments per case (in the rerun)</th><td>{{range $i, $c := .R.Settings.Cases}}{{if $i}}; {{end}}{{$c.Case}}: {{$c.Control}} control, {{$c.Increments}} ({{$c.Rerun}}){{end}}</td></tr>
 </table>
 </section>
 <p class="caution"><b>Caution.</b> {{.R.Caution}}</p>
