@@ -19,7 +19,8 @@ import (
 // library rules and the plausibility warnings. The rules are applied again
 // (another revision may have been stored since); the job is looked up as
 // on the full path; anything but a job queued, running or done goes the
-// full path (a failed job is queued again there).
+// full path (a failed job, or one whose outputs serve refused, is queued
+// again there).
 
 // bodyAnswerTTL is how long a body's answer is kept: a day, so that a CI
 // job that resubmits an unchanged library on every commit is answered from
@@ -67,6 +68,11 @@ func (a *API) answerKnownBody(w http.ResponseWriter, r *http.Request, key string
 		return false
 	}
 	if !done {
+		// A job whose outputs serve refused (a failure recorded) goes the
+		// full path too: its task may be on its way out.
+		if f, err := ReadFailure(ctx, a.c.Redis, ans.Job); err != nil || f != nil {
+			return false
+		}
 		info, err := a.c.Inspector.GetTaskInfo(QueueVerify, ans.Job)
 		if err != nil || info.State == asynq.TaskStateArchived {
 			return false
