@@ -192,6 +192,9 @@ func mergeVerification(v schema.Verification, given *schema.Verification, f floa
 			if err != nil {
 				return nil, &FieldError{Pointer: ptrOf + "/file", Err: fmt.Errorf("read reference %q: %w", r.File, err)}
 			}
+			if err := checkReferenceSize(r.File, data); err != nil {
+				return nil, &FieldError{Pointer: ptrOf + "/file", Err: err}
+			}
 			if pts, err = ReadCurve(r.File, data); err != nil {
 				return nil, &FieldError{Pointer: ptrOf + "/file", Err: err}
 			}

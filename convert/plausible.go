@@ -424,7 +424,8 @@ func likelyUnit(E float64) string {
 
 // Prepare runs everything that follows the schema on a decoded card: the
 // plausibility checks, the recomputation of any derived block and digest the
-// card states, and Normalize. It returns the canonical card (nil when there
+// card states, Normalize, the sizing limits of the cases and the size rule
+// of the normalized card (see MaxReferenceBytes). It returns the canonical card (nil when there
 // are errors) and every diagnostic, warnings included.
 func Prepare(doc *schema.Document, opts *Options) (*schema.Card, schema.Diagnostics) {
 	ds := Plausibility(doc)
@@ -439,8 +440,9 @@ func Prepare(doc *schema.Document, opts *Options) (*schema.Card, schema.Diagnost
 		}
 		return nil, sortDiags(append(ds, doc.Diag(schema.SeverityError, "", "%v", err)))
 	}
+	ds = append(ds, checkDigest(doc, n)...)
 	if doc.Card.IsTemperatureDependent() {
-		ds = append(append(ds, checkDigest(doc, n)...), perTemperature(doc, func(sd *schema.Document) schema.Diagnostics {
+		ds = append(ds, perTemperature(doc, func(sd *schema.Document) schema.Diagnostics {
 			nk, err := Normalize(sd.Card, opts)
 			if err != nil {
 				return schema.Diagnostics{sd.Diag(schema.SeverityError, "", "%v", err)}
@@ -448,9 +450,9 @@ func Prepare(doc *schema.Document, opts *Options) (*schema.Card, schema.Diagnost
 			return append(checkStated(sd), usable(sd, nk)...)
 		})...)
 	} else {
-		ds = append(append(ds, checkDigest(doc, n)...), checkStated(doc)...)
-		ds = append(ds, usable(doc, n)...)
+		ds = append(append(ds, checkStated(doc)...), usable(doc, n)...)
 	}
+	ds = append(ds, normalizedSize(doc, n)...)
 	if ds.HasErrors() {
 		return nil, sortDiags(ds)
 	}

@@ -143,7 +143,7 @@ func Decode(file string, data []byte, opts *DecodeOptions) (*Document, error) {
 		limit = opts.MaxBytes
 	}
 	if int64(len(data)) > limit {
-		b.errorf(Pos{}, "", "the file is larger than the limit of %s: a card is a few kilobytes; is this the right file?", byteSize(limit))
+		b.errorf(Pos{}, "", "the file is larger than the limit of %s: a card is a few kilobytes; is this the right file?", ByteSize(limit))
 		return doc, b.result()
 	}
 	data, ok := b.checkText(data)
@@ -381,7 +381,9 @@ func (b *builder) posAt(data []byte, off int) Pos {
 // posCache is the last answer of posAt: 0-based line, offset, column.
 type posCache struct{ line, off, col int }
 
-func byteSize(n int64) string {
+// ByteSize writes a size limit with its binary unit where it has one:
+// "1048576 bytes (1 MiB)".
+func ByteSize(n int64) string {
 	switch {
 	case n >= 1<<20 && n%(1<<20) == 0:
 		return fmt.Sprintf("%d bytes (%d MiB)", n, n>>20)

@@ -31,6 +31,7 @@ type RecordStore interface {
 	Record(id string) ([]byte, error)
 	Card(id string) ([]byte, error)
 	List(cardID string, offset, limit int) ([]LedgerEntry, int)
+	Summary(id string) (Summary, error)
 	Ping() error
 }
 
@@ -48,9 +49,14 @@ type APIConfig struct {
 	// Budget is the verification budget the tasks are enqueued for (their
 	// asynq Timeout is TaskTimeout(Budget)); zero means DefaultBudget.
 	Budget time.Duration
-	// MaxBody is the largest card accepted, in bytes; zero means
-	// schema.DefaultMaxBytes (1 MiB).
-	MaxBody int64
+	// MaxInFlight bounds the card submissions and report renderings
+	// handled at once (503 beyond); zero means DefaultMaxInFlight.
+	MaxInFlight int
+	// TokenRate is each token's sustained requests a second and
+	// TokenBurst the requests above it at once (429 beyond); a zero
+	// TokenRate means no rate limit.
+	TokenRate  float64
+	TokenBurst int
 	// DefaultProfile is the verification profile of cards that name none;
 	// "" leaves the card's own default (standard).
 	DefaultProfile string
@@ -59,9 +65,11 @@ type APIConfig struct {
 
 // API is the HTTP API of matgate serve.
 type API struct {
-	c    APIConfig
-	auth *authenticator
-	mux  *http.ServeMux
+	c        APIConfig
+	auth     *authenticator
+	mux      *http.ServeMux
+	inFlight gate
+	rates    rateLimits
 }
 
 // NewAPI checks the configuration (every token problem at once) and builds
@@ -71,22 +79,23 @@ func NewAPI(c APIConfig) (*API, error) {
 	if err != nil {
 		return nil, err
 	}
-	if c.MaxBody <= 0 {
-		c.MaxBody = schema.DefaultMaxBytes
-	}
 	if c.Budget <= 0 {
 		c.Budget = DefaultBudget
 	}
 	if c.Log == nil {
 		c.Log = slog.New(slog.DiscardHandler)
 	}
-	a := &API{c: c, auth: auth, mux: http.NewServeMux()}
-	a.mux.HandleFunc("POST /v1/cards", a.scoped(ScopeSubmit, a.submit))
+	if c.MaxInFlight <= 0 {
+		c.MaxInFlight = DefaultMaxInFlight
+	}
+	a := &API{c: c, auth: auth, mux: http.NewServeMux(), inFlight: make(gate, c.MaxInFlight),
+		rates: newRateLimits(c.Tokens, c.TokenRate, c.TokenBurst)}
+	a.mux.HandleFunc("POST /v1/cards", a.scoped(ScopeSubmit, a.bounded(a.submit)))
 	a.mux.HandleFunc("GET /v1/jobs/{id}", a.scoped(ScopeRead, a.job))
 	a.mux.HandleFunc("GET /v1/records", a.scoped(ScopeRead, a.list))
 	a.mux.HandleFunc("GET /v1/records/{id}", a.scoped(ScopeRead, a.record))
 	a.mux.HandleFunc("GET /v1/records/{id}/card", a.scoped(ScopeRead, a.card))
-	a.mux.HandleFunc("GET /v1/records/{id}/report", a.scoped(ScopeRead, a.report))
+	a.mux.HandleFunc("GET /v1/records/{id}/report", a.scoped(ScopeRead, a.bounded(a.report)))
 	a.mux.HandleFunc("GET /healthz", func(w http.ResponseWriter, _ *http.Request) {
 		writeJSON(w, http.StatusOK, map[string]string{"status": "ok"})
 	})
@@ -135,7 +144,8 @@ type statusWriter struct {
 func (w *statusWriter) WriteHeader(s int) { w.status = s; w.ResponseWriter.WriteHeader(s) }
 
 // scoped admits a request whose bearer token has scope: 401 without a
-// valid token, 403 when the token lacks the scope.
+// valid token, 403 when the token lacks the scope, 429 when the token is
+// over its rate.
 func (a *API) scoped(scope string, h http.HandlerFunc) http.HandlerFunc {
 	return func(w http.ResponseWriter, r *http.Request) {
 		t := a.auth.identify(r)
@@ -149,6 +159,9 @@ func (a *API) scoped(scope string, h http.HandlerFunc) http.HandlerFunc {
 		}
 		if !t.has(scope) {
 			problem(w, r, http.StatusForbidden, "missing scope", fmt.Sprintf("token %q lacks the %s scope", t.name, scope), nil)
+			return
+		}
+		if !a.rates.admit(w, r, t.name, a.c.Metrics) {
 			return
 		}
 		h(w, r)
@@ -165,6 +178,7 @@ type Job struct {
 	Verdict   string            `json:"verdict,omitempty"` // pass or fail, when done
 	CardID    string            `json:"card_id,omitempty"`
 	Revision  int               `json:"revision,omitempty"`
+	Checks    *CheckCounts      `json:"checks,omitempty"` // when done (and counted)
 	Stored    bool              `json:"stored,omitempty"` // the record is a file in the records directory
 	Warnings  []string          `json:"warnings,omitempty"`
 	Links     map[string]string `json:"links"`
@@ -205,12 +219,12 @@ func (a *API) submit(w http.ResponseWriter, r *http.Request) {
 			fmt.Sprintf("Content-Type %q: send a card as application/yaml or application/json", r.Header.Get("Content-Type")), nil)
 		return
 	}
-	body, err := io.ReadAll(http.MaxBytesReader(w, r.Body, a.c.MaxBody))
+	body, err := io.ReadAll(http.MaxBytesReader(w, r.Body, schema.DefaultMaxBytes))
 	var mbe *http.MaxBytesError
 	switch {
 	case errors.As(err, &mbe):
 		problem(w, r, http.StatusRequestEntityTooLarge, "card too large",
-			fmt.Sprintf("the body exceeds the limit of %d bytes; a card is a few kilobytes", a.c.MaxBody), nil)
+			fmt.Sprintf("the body exceeds the limit of %s for a card; a card is a few kilobytes", schema.ByteSize(schema.DefaultMaxBytes)), nil)
 		return
 	case err != nil:
 		problem(w, r, http.StatusBadRequest, "body not read", fmt.Sprintf("reading the request body: %v", err), nil)
@@ -218,6 +232,10 @@ func (a *API) submit(w http.ResponseWriter, r *http.Request) {
 	}
 	if looksJSON := isJSONText(body); kind == "json" && !looksJSON {
 		problem(w, r, http.StatusBadRequest, "card does not parse", "Content-Type says JSON, but the body does not start with '{'", nil)
+		return
+	}
+	key := a.bodyKey(body)
+	if a.answerKnownBody(w, r, key) {
 		return
 	}
 	c, ref, warnings, perr := a.prepare(body)
@@ -239,23 +257,20 @@ func (a *API) submit(w http.ResponseWriter, r *http.Request) {
 		a.unavailable(w, r, err)
 		return
 	}
-	if done {
-		w.Header().Set("Location", "/v1/records/"+id)
-		writeJSON(w, http.StatusSeeOther, Job{ID: id, State: JobDone, CardID: c.ID, Revision: c.Revision, Warnings: warnings, Links: jobLinks(id, true)})
-		return
+	ans := bodyAnswer{Job: id, Ref: ref, Warnings: warnings}
+	if !done {
+		task, _, err := NewVerifyTask(c, a.c.Settings, TaskTimeout(a.c.Budget))
+		if err != nil {
+			problem(w, r, http.StatusInternalServerError, "internal error", err.Error(), nil)
+			return
+		}
+		if err := a.enqueue(ctx, task, id); err != nil {
+			a.unavailable(w, r, err)
+			return
+		}
 	}
-	task, _, err := NewVerifyTask(c, a.c.Settings, TaskTimeout(a.c.Budget))
-	if err != nil {
-		problem(w, r, http.StatusInternalServerError, "internal error", err.Error(), nil)
-		return
-	}
-	if err := a.enqueue(ctx, task, id); err != nil {
-		a.unavailable(w, r, err)
-		return
-	}
-	w.Header().Set("Location", "/v1/jobs/"+id)
-	w.Header().Set("Retry-After", "1")
-	writeJSON(w, http.StatusAccepted, Job{ID: id, State: JobQueued, CardID: c.ID, Revision: c.Revision, Warnings: warnings, Links: jobLinks(id, false)})
+	a.rememberBody(ctx, key, ans)
+	a.answerSubmission(w, ans, done)
 }
 
 // enqueue enqueues a verification; a job already queued is success. A job
@@ -317,7 +332,7 @@ func (a *API) libraryRules(w http.ResponseWriter, r *http.Request, ref CardRef) 
 // functions as matgate verify, with reference curves inline (a card over
 // HTTP has no folder to read files from).
 func (a *API) prepare(body []byte) (*schema.Card, CardRef, []string, *prepareError) {
-	doc, err := schema.Decode("card", body, &schema.DecodeOptions{MaxBytes: a.c.MaxBody})
+	doc, err := schema.Decode("card", body, nil)
 	if err != nil {
 		pe := &prepareError{syntax: doc.Value == nil}
 		var ds schema.Diagnostics
@@ -395,19 +410,41 @@ func (a *API) readOutput(ctx context.Context, id string, card bool) (b []byte, s
 	return b, false, err
 }
 
+// summary returns a finished job's summary: from the records directory,
+// or from Redis while serve has not yet made the record a file. A record
+// in Redis that a worker before summaries wrote has an empty summary
+// (state done, nothing more).
+func (a *API) summary(ctx context.Context, id string) (sum Summary, stored bool, err error) {
+	if a.c.Store.Has(id) {
+		sum, err = a.c.Store.Summary(id)
+		return sum, true, err
+	}
+	b, err := a.c.Redis.Get(ctx, summaryKey(id)).Bytes()
+	if err == nil {
+		err = json.Unmarshal(b, &sum)
+		return sum, false, err
+	}
+	if !errors.Is(err, redis.Nil) {
+		return sum, false, err
+	}
+	done, err := a.hasRecord(ctx, id)
+	if err == nil && !done {
+		err = ErrNotFound
+	}
+	return Summary{ID: id}, false, err
+}
+
 func (a *API) job(w http.ResponseWriter, r *http.Request) {
 	id, ok := pathID(w, r)
 	if !ok {
 		return
 	}
 	j := Job{ID: id}
-	rec, stored, err := a.readOutput(r.Context(), id, false)
+	sum, stored, err := a.summary(r.Context(), id)
 	switch {
 	case err == nil:
 		j.State, j.Stored, j.Links = JobDone, stored, jobLinks(id, true)
-		if pr, perr := checks.ParseRecord(rec); perr == nil {
-			j.Verdict, j.CardID, j.Revision = pr.Verdict, pr.Card.ID, pr.Card.Revision
-		}
+		j.Verdict, j.CardID, j.Revision, j.Checks = sum.Verdict, sum.Card.ID, sum.Card.Revision, sum.Checks
 	case !errors.Is(err, ErrNotFound):
 		a.unavailable(w, r, err)
 		return
@@ -500,11 +537,12 @@ func (a *API) report(w http.ResponseWriter, r *http.Request) {
 	w.Write(b)
 }
 
-// Listing is a page of GET /v1/records.
+// Listing is a page of GET /v1/records: the stored records' summaries,
+// oldest first.
 type Listing struct {
-	Total   int           `json:"total"`
-	Records []LedgerEntry `json:"records"`
-	Next    string        `json:"next,omitempty"`
+	Total   int       `json:"total"`
+	Records []Summary `json:"records"`
+	Next    string    `json:"next,omitempty"`
 }
 
 func (a *API) list(w http.ResponseWriter, r *http.Request) {
@@ -526,9 +564,16 @@ func (a *API) list(w http.ResponseWriter, r *http.Request) {
 	}
 	card := q.Get("card")
 	entries, total := a.c.Store.List(card, offset, limit)
-	l := Listing{Total: total, Records: entries}
-	if l.Records == nil {
-		l.Records = []LedgerEntry{}
+	l := Listing{Total: total, Records: make([]Summary, len(entries))}
+	for i, e := range entries {
+		sum, err := a.c.Store.Summary(e.ID)
+		if err != nil {
+			a.c.Log.Error("records directory", "path", r.URL.Path, "err", err)
+			w.Header().Set("Retry-After", "5")
+			problem(w, r, http.StatusServiceUnavailable, "records directory unavailable", err.Error(), nil)
+			return
+		}
+		l.Records[i] = sum
 	}
 	if next := offset + len(entries); next < total {
 		v := map[string][]string{"offset": {strconv.Itoa(next)}, "limit": {strconv.Itoa(limit)}}

@@ -16,6 +16,9 @@ import (
 	"testing"
 	"time"
 
+	"github.com/google/go-cmp/cmp"
+
+	"matgate/checks"
 	"matgate/worker/redistest"
 )
 
@@ -39,8 +42,9 @@ func newAPIStack(t *testing.T, workers bool, readTimeout time.Duration) *apiStac
 }
 
 // newAPIStackOn is newAPIStack on a given Redis (nil: a new one) with an
-// idle poll interval (zero: the tests' 20 ms).
-func newAPIStackOn(t testing.TB, r *redistest.Server, poll time.Duration, workers bool, readTimeout time.Duration) *apiStack {
+// idle poll interval (zero: the tests' 20 ms); set, when given, adjusts the
+// API's configuration.
+func newAPIStackOn(t testing.TB, r *redistest.Server, poll time.Duration, workers bool, readTimeout time.Duration, set ...func(*APIConfig)) *apiStack {
 	t.Helper()
 	s := &apiStack{queueStack: newQueueStack(t, r, false)}
 	s.poll = poll
@@ -50,10 +54,14 @@ func newAPIStackOn(t testing.TB, r *redistest.Server, poll time.Duration, worker
 		s.startWorker(t)
 		s.startMaterializer(t)
 	}
-	api, err := NewAPI(APIConfig{
+	c := APIConfig{
 		Redis: s.rdb, Queue: s.client, Inspector: s.insp, Store: s.store, Metrics: s.metrics,
 		Tokens: []Token{tokenAll, tokenRead, tokenSub}, Settings: Settings{ToolVersion: testTool.Version},
-	})
+	}
+	for _, f := range set {
+		f(&c)
+	}
+	api, err := NewAPI(c)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -133,6 +141,7 @@ func (s *apiStack) waitJob(t *testing.T, id string, limit time.Duration) Job {
 // created and digest. Resubmitting answers 303 to the record.
 func TestAPIEndToEnd(t *testing.T) {
 	s := newAPIStack(t, true, 0)
+	records := map[string][]byte{} // by job id, as served
 	for _, f := range demoCards {
 		path := filepath.Join("..", "testdata", "cards", f)
 		resp, j := s.submitFile(t, path)
@@ -152,6 +161,11 @@ func TestAPIEndToEnd(t *testing.T) {
 		if recordWithout(t, rec) != recordWithout(t, wantRec) {
 			t.Errorf("%s: record over HTTP differs from the in-process one beyond created and digest", f)
 		}
+		// The job's status comes from the summary: the record's own counts.
+		if total, failed := countChecks(want.Record); done.Checks == nil || done.Checks.Total != total || done.Checks.Failed != failed {
+			t.Errorf("%s: job status checks %+v, want %d total, %d failed", f, done.Checks, total, failed)
+		}
+		records[j.ID] = rec
 		if _, card := s.do(t, "GET", "/v1/records/"+j.ID+"/card", secretRead, "", nil); string(card) != string(want.Card) {
 			t.Errorf("%s: neutral card over HTTP differs from the in-process one", f)
 		}
@@ -172,8 +186,24 @@ func TestAPIEndToEnd(t *testing.T) {
 	}
 	_, body = s.do(t, "GET", "/v1/records?card=demo-canopy-steel", secretRead, "", nil)
 	json.Unmarshal(body, &l)
-	if l.Total != 1 || len(l.Records) != 1 || l.Records[0].CardID != "demo-canopy-steel" || l.Records[0].Revision != 4 {
-		t.Errorf("filtered listing: %s", body)
+	if l.Total != 1 || len(l.Records) != 1 || l.Records[0].Card.ID != "demo-canopy-steel" || l.Records[0].Card.Revision != 4 {
+		t.Fatalf("filtered listing: %s", body)
+	}
+	// The listing names the record's digest and its card's digest as the
+	// record does ("digest", "card": {"digest"}), not file hashes.
+	got := l.Records[0]
+	r, err := checks.ParseRecord(records[got.ID])
+	if err != nil {
+		t.Fatal(err)
+	}
+	total, failed := countChecks(r)
+	want := Summary{ID: got.ID, Verdict: r.Verdict, Created: r.Created, Digest: r.Digest,
+		Card: SummaryCard{ID: r.Card.ID, Revision: r.Card.Revision, Digest: r.Card.Digest}, Checks: &CheckCounts{Total: total, Failed: failed}}
+	if diff := cmp.Diff(want, got); diff != "" {
+		t.Errorf("listing entry (-want +got):\n%s", diff)
+	}
+	if strings.Contains(string(body), "sha256\"") || !strings.Contains(string(body), `"digest":`) {
+		t.Errorf("listing names file hashes or no digest: %s", body)
 	}
 	for _, p := range []string{"/healthz", "/readyz"} {
 		if resp, body := s.do(t, "GET", p, "", "", nil); resp.StatusCode != 200 {
@@ -193,9 +223,10 @@ func TestAPIEndToEnd(t *testing.T) {
 }
 
 // TestAPIIdempotent submits one card eight times at once and twice more
-// after: one job id, one verification, one record, one ledger line.
+// after: one job id, one verification, one record, one ledger line. All
+// eight are let in at once (server.max_in_flight 8), so that they race.
 func TestAPIIdempotent(t *testing.T) {
-	s := newAPIStack(t, true, 0)
+	s := newAPIStackOn(t, nil, 0, true, 0, func(c *APIConfig) { c.MaxInFlight = 8 })
 	path := "../testdata/cards/ss-chaboche.yaml"
 	var wg sync.WaitGroup
 	ids := make([]string, 8)

@@ -17,7 +17,7 @@ import (
 
 // benchCard returns the i-th distinct variant of the aluminium demo card
 // (its revision), so that no two submissions are the same job.
-func benchCard(b *testing.B, i int) []byte {
+func benchCard(b testing.TB, i int) []byte {
 	base, err := os.ReadFile("../testdata/cards/al-bilinear.yaml")
 	if err != nil || !strings.Contains(string(base), "revision: 2\n") {
 		b.Fatalf("the demo card changed: %v", err)

@@ -19,7 +19,9 @@ type Client struct {
 	Token   string       // bearer token
 	HTTP    *http.Client // nil: a client with a 60 s timeout
 	// Unavailable is how many times a 503 answer is retried, after the
-	// Retry-After it gives (at most 30 s each).
+	// Retry-After it gives (at most 30 s each). A 429 (the token's rate)
+	// is always retried after its Retry-After, until ctx ends: the server
+	// says when the request will be taken.
 	Unavailable int
 }
 
@@ -49,10 +51,10 @@ func (c *Client) http() *http.Client {
 	}
 }
 
-// do sends one request, retrying 503 answers, and returns the status and
-// body of a 2xx or 3xx answer; anything else is a *Problem.
+// do sends one request, retrying 503 and 429 answers, and returns the
+// status and body of a 2xx or 3xx answer; anything else is a *Problem.
 func (c *Client) do(ctx context.Context, method, path, ctype string, body []byte) (int, []byte, error) {
-	for attempt := 0; ; attempt++ {
+	for attempt := 0; ; {
 		req, err := http.NewRequestWithContext(ctx, method, strings.TrimRight(c.BaseURL, "/")+path, bytes.NewReader(body))
 		if err != nil {
 			return 0, nil, err
@@ -70,7 +72,12 @@ func (c *Client) do(ctx context.Context, method, path, ctype string, body []byte
 		if err != nil {
 			return 0, nil, err
 		}
+		retry := resp.StatusCode == http.StatusTooManyRequests
 		if resp.StatusCode == http.StatusServiceUnavailable && attempt < c.Unavailable {
+			attempt++
+			retry = true
+		}
+		if retry {
 			wait := 5 * time.Second
 			if s, err := strconv.Atoi(resp.Header.Get("Retry-After")); err == nil && s >= 0 {
 				wait = min(time.Duration(s)*time.Second, 30*time.Second)
@@ -138,4 +145,27 @@ func IsProblem(err error, status ...int) bool {
 		}
 	}
 	return len(status) == 0
+}
+
+// Records returns the summaries of every stored record of card id, oldest
+// first, following the listing's pages.
+func (c *Client) Records(ctx context.Context, cardID string) ([]Summary, error) {
+	var out []Summary
+	next := "/v1/records?" + encodeQuery(map[string][]string{"card": {cardID}, "limit": {"1000"}})
+	for next != "" {
+		_, b, err := c.do(ctx, http.MethodGet, next, "", nil)
+		if err != nil {
+			return nil, err
+		}
+		var l Listing
+		if err := json.Unmarshal(b, &l); err != nil {
+			return nil, fmt.Errorf("listing of %s: %w", cardID, err)
+		}
+		out = append(out, l.Records...)
+		if l.Next != "" && !strings.HasPrefix(l.Next, "/v1/records?") {
+			return nil, fmt.Errorf("listing of %s: unexpected next page %q", cardID, l.Next)
+		}
+		next = l.Next
+	}
+	return out, nil
 }

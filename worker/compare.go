@@ -147,23 +147,45 @@ func (c *Comparison) Exceeding(limit float64) []checks.Change {
 // latest in the ledger is taken.
 func PreviousRevision(s *DirStore, c *schema.Card) (*schema.Card, error) {
 	entries, _ := s.List(c.ID, 0, math.MaxInt)
-	var best *LedgerEntry
-	for i := range entries {
-		e := &entries[i]
-		if e.Revision < c.Revision && (best == nil || e.Revision >= best.Revision) {
-			best = e
-		}
+	revs := make([]int, len(entries))
+	for i, e := range entries {
+		revs[i] = e.Revision
 	}
-	if best == nil {
+	i := PreviousOf(revs, c.Revision)
+	if i < 0 {
 		return nil, nil
 	}
-	b, err := s.Card(best.ID)
+	b, err := s.Card(entries[i].ID)
 	if err != nil {
-		return nil, fmt.Errorf("stored card of %s r%d: %w", c.ID, best.Revision, err)
+		return nil, fmt.Errorf("stored card of %s r%d: %w", c.ID, entries[i].Revision, err)
 	}
-	prev, err := decodeCanonical(b)
+	return DecodeStoredCard(b, c.ID, entries[i].CardDigest)
+}
+
+// PreviousOf returns the position, in revisions (the revisions of one card
+// id's stored records in ledger order), of the highest revision below rev,
+// the latest in the ledger among equals; -1 when there is none.
+func PreviousOf(revisions []int, rev int) int {
+	best := -1
+	for i, r := range revisions {
+		if r < rev && (best < 0 || r >= revisions[best]) {
+			best = i
+		}
+	}
+	return best
+}
+
+// DecodeStoredCard decodes a stored neutral card through the same decoder,
+// checks and normalization as a submitted one, and checks that it is of
+// card id with the digest its record names (digest "": a ledger line
+// written before the ledger kept digests).
+func DecodeStoredCard(b []byte, id, digest string) (*schema.Card, error) {
+	c, err := decodeCanonical(b)
 	if err != nil {
-		return nil, fmt.Errorf("stored card of %s r%d: %w", c.ID, best.Revision, err)
+		return nil, fmt.Errorf("stored card of %s: %w", id, err)
 	}
-	return prev, nil
+	if c.ID != id || digest != "" && c.Digest != digest {
+		return nil, fmt.Errorf("stored card of %s: it is card %s with digest %s, its record names %s", id, c.ID, c.Digest, digest)
+	}
+	return c, nil
 }

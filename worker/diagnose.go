@@ -1,6 +1,8 @@
 package worker
 
 import (
+	"context"
+
 	"matgate/checks"
 	"matgate/convert"
 	"matgate/schema"
@@ -33,4 +35,16 @@ func Wording(written *schema.Card) checks.Wording {
 		w.Tangent = append(w.Tangent, t.TangentModulus != nil)
 	}
 	return w
+}
+
+// Diagnoses runs the diagnosis of a canonical card's reference curves
+// alone, as Verify does, for a client that holds a record (whose findings
+// are worded canonically) and the card as written, to word the findings
+// as the card is written (Describe with Wording).
+func Diagnoses(ctx context.Context, c *schema.Card) ([]checks.Diagnosis, error) {
+	spec, err := Spec(c)
+	if err != nil {
+		return nil, err
+	}
+	return checks.Diagnose(ctx, spec, StressUnits())
 }

@@ -166,12 +166,13 @@ func TestRedisRestartAOF(t *testing.T) {
 }
 
 // TestLoad1000 submits 1,000 distinct cards over HTTP from 8 clients at
-// once: every one is accepted, verified once and stored once, and the
-// ledger verifies. Bounded by a minute without progress.
+// once (server.max_in_flight 8: all let in): every one is accepted,
+// verified once and stored once, and the ledger verifies. Bounded by a
+// minute without progress.
 func TestLoad1000(t *testing.T) {
 	longTest(t)
 	const n = 1000
-	s := newAPIStack(t, true, 0)
+	s := newAPIStackOn(t, nil, 0, true, 0, func(c *APIConfig) { c.MaxInFlight = 8 })
 	base, err := os.ReadFile("../testdata/cards/al-bilinear.yaml")
 	if err != nil || !strings.Contains(string(base), "revision: 2\n") {
 		t.Fatalf("the demo card changed: %v", err)

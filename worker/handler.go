@@ -18,16 +18,17 @@ import (
 func recordKey(id string) string { return "matgate:record:" + id }
 func cardKey(id string) string   { return "matgate:card:" + id }
 
-// putOutputs writes a record and its neutral card in one step, only when
-// no record of that id exists: a retried or concurrent run of the same job
-// leaves the first record in place. It drops the job's refusal (KEYS[3]),
-// if serve refused an earlier record of it. It returns 1 when it wrote, 0
-// when the record was there.
+// putOutputs writes a record, its neutral card and its summary (KEYS[4])
+// in one step, only when no record of that id exists: a retried or
+// concurrent run of the same job leaves the first record in place. It
+// drops the job's refusal (KEYS[3]), if serve refused an earlier record of
+// it. It returns 1 when it wrote, 0 when the record was there.
 var putOutputs = redis.NewScript(`
 if redis.call('EXISTS', KEYS[1]) == 1 then return 0 end
 redis.call('SET', KEYS[1], ARGV[1])
 redis.call('SET', KEYS[2], ARGV[2])
 redis.call('DEL', KEYS[3])
+redis.call('SET', KEYS[4], ARGV[3])
 return 1
 `)
 
@@ -131,7 +132,7 @@ func (h *Handler) ProcessTask(ctx context.Context, t *asynq.Task) error {
 		case err != nil:
 			return fmt.Errorf("verify task %s: %w: %w", id, err, asynq.SkipRetry)
 		}
-		if err := putOutputs.Run(ctx, h.Redis, []string{recordKey(id), cardKey(id), failureKey(id)}, out.RecordJSON, out.Card).Err(); err != nil {
+		if err := putOutputs.Run(ctx, h.Redis, []string{recordKey(id), cardKey(id), failureKey(id), summaryKey(id)}, out.RecordJSON, out.Card, summaryJSON(SummaryOf(id, MetaOf(out.Record)))).Err(); err != nil {
 			return fmt.Errorf("verify task %s: write outputs: %w", id, err)
 		}
 	}

@@ -13,10 +13,13 @@ import (
 	"github.com/redis/go-redis/v9"
 )
 
-// RedisCopyTTL is how long the Redis copy of a record stays once its file
-// is durable: long enough for a reader racing the materialization, short
-// enough that Redis does not grow with the library.
-const RedisCopyTTL = 7 * 24 * time.Hour
+// RedisCopyTTL is how long the Redis copy of a record (its card and
+// summary) stays once its file is durable. What reads the copy is a
+// request that looked at the records directory just before the file was
+// there (readOutput, hasRecord, the job status): a matter of milliseconds.
+// Ten minutes cover that with room, and keep Redis, which runs without
+// eviction, from holding records of some hundreds of kB each for days.
+const RedisCopyTTL = 10 * time.Minute
 
 // Materializer runs materialize tasks in serve, with concurrency 1: it
 // checks a job's record and neutral card as a worker left them in Redis
@@ -118,6 +121,7 @@ func (m *Materializer) refuse(ctx context.Context, id string, why error) error {
 	pipe := m.Redis.TxPipeline()
 	pipe.Rename(ctx, recordKey(id), refusedRecordKey(id))
 	pipe.Rename(ctx, cardKey(id), refusedCardKey(id))
+	pipe.Del(ctx, summaryKey(id)) // the worker's summary of a record serve refused: job status must not answer from it
 	pipe.Expire(ctx, refusedRecordKey(id), RefusedTTL)
 	pipe.Expire(ctx, refusedCardKey(id), RefusedTTL)
 	pipe.Set(ctx, failureKey(id), failureJSON(FailureRefused, why.Error(), time.Now()), RefusedTTL)
@@ -166,6 +170,7 @@ func (m *Materializer) expire(ctx context.Context, id string) error {
 	pipe := m.Redis.TxPipeline()
 	pipe.Expire(ctx, recordKey(id), RedisCopyTTL)
 	pipe.Expire(ctx, cardKey(id), RedisCopyTTL)
+	pipe.Expire(ctx, summaryKey(id), RedisCopyTTL)
 	if _, err := pipe.Exec(ctx); err != nil {
 		return fmt.Errorf("materialize %s: expire the Redis copy: %w", id, err)
 	}

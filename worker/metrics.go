@@ -10,9 +10,11 @@ import (
 
 // Metrics are the Prometheus metrics of serve, on a registry of their own.
 type Metrics struct {
-	Registry    *prometheus.Registry
-	Duration    prometheus.Histogram // verification seconds, observed as records become files
-	RedisErrors prometheus.Counter
+	Registry     *prometheus.Registry
+	Duration     prometheus.Histogram // verification seconds, observed as records become files
+	RedisErrors  prometheus.Counter
+	Refused      *prometheus.CounterVec // requests refused by a limit, by reason: busy (503), rate (429)
+	Deduplicated prometheus.Counter     // submissions answered from the body digest, without parsing
 }
 
 // NewMetrics registers the metrics and the one queue collector, which reads
@@ -31,8 +33,16 @@ func NewMetrics(insp *asynq.Inspector) *Metrics {
 			Name: "matgate_redis_errors_total",
 			Help: "Redis calls of serve that failed (submissions, reads, readiness, scrapes).",
 		}),
+		Refused: prometheus.NewCounterVec(prometheus.CounterOpts{
+			Name: "matgate_requests_refused_total",
+			Help: "Requests refused by a limit of serve: busy (503, server.max_in_flight) or rate (429, server.token_rate).",
+		}, []string{"reason"}),
+		Deduplicated: prometheus.NewCounter(prometheus.CounterOpts{
+			Name: "matgate_submissions_deduplicated_total",
+			Help: "Submissions of a body sent before, answered from its digest without parsing the card.",
+		}),
 	}
-	m.Registry.MustRegister(m.Duration, m.RedisErrors,
+	m.Registry.MustRegister(m.Duration, m.RedisErrors, m.Refused, m.Deduplicated,
 		&queueCollector{insp: insp, errs: m.RedisErrors},
 		collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{}))
 	return m

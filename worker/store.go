@@ -387,12 +387,18 @@ type RecordMeta struct {
 	Created    string `json:"created"`
 	Digest     string `json:"digest"`
 	CardDigest string `json:"card_digest"`
+	// Checks and ChecksFailed count the record's checks for its Summary;
+	// not in the ledger. Zero Checks: not counted (an older worker).
+	Checks       int `json:"checks,omitempty"`
+	ChecksFailed int `json:"checks_failed,omitempty"`
 }
 
-// MetaOf returns the ledger fields of a record.
+// MetaOf returns the ledger fields of a record and its check counts.
 func MetaOf(r *checks.Record) RecordMeta {
-	return RecordMeta{CardID: r.Card.ID, Revision: r.Card.Revision, Verdict: r.Verdict, Created: r.Created,
+	m := RecordMeta{CardID: r.Card.ID, Revision: r.Card.Revision, Verdict: r.Verdict, Created: r.Created,
 		Digest: r.Digest, CardDigest: r.Card.Digest}
+	m.Checks, m.ChecksFailed = countChecks(r)
+	return m
 }
 
 // mismatch names the first field in which the ledger line e differs from
@@ -430,12 +436,26 @@ func metaFromJSON(record []byte) (RecordMeta, error) {
 		Verdict string `json:"verdict"`
 		Created string `json:"created"`
 		Digest  string `json:"digest"`
+		Cases   []struct {
+			Checks []struct {
+				Pass bool `json:"pass"`
+			} `json:"checks"`
+		} `json:"cases"`
 	}
 	if err := json.Unmarshal(record, &rec); err != nil || rec.Card.ID == "" || rec.Verdict == "" {
 		return RecordMeta{}, fmt.Errorf("not a verification record (%v)", err)
 	}
-	return RecordMeta{CardID: rec.Card.ID, Revision: rec.Card.Revision, Verdict: rec.Verdict, Created: rec.Created,
-		Digest: rec.Digest, CardDigest: rec.Card.Digest}, nil
+	m := RecordMeta{CardID: rec.Card.ID, Revision: rec.Card.Revision, Verdict: rec.Verdict, Created: rec.Created,
+		Digest: rec.Digest, CardDigest: rec.Card.Digest}
+	for _, cs := range rec.Cases {
+		for _, ck := range cs.Checks {
+			m.Checks++
+			if !ck.Pass {
+				m.ChecksFailed++
+			}
+		}
+	}
+	return m, nil
 }
 
 // Put stores the record and the neutral card of id as immutable files and
@@ -485,6 +505,11 @@ func (s *DirStore) put(id string, m RecordMeta, record, card []byte) error {
 	}
 	if err := s.writeImmutable(cardName(id), card); err != nil {
 		return err
+	}
+	if m.Checks > 0 { // counted: the summary that job status and the listing read
+		if err := s.writeImmutable(summaryName(id), summaryJSON(SummaryOf(id, m))); err != nil {
+			return err
+		}
 	}
 	if err := syncDir(s.root, id[:2]); err != nil {
 		return err
@@ -670,6 +695,11 @@ func checkEntry(root *os.Root, e LedgerEntry, n int, pub ed25519.PublicKey) erro
 	if d := e.mismatch(r); d != "" {
 		return fmt.Errorf("%s:%d: the line says %s", LedgerName, n, d)
 	}
+	if b, err := root.ReadFile(summaryName(e.ID)); err == nil {
+		return checkSummary(b, e, r, n)
+	} else if !errors.Is(err, fs.ErrNotExist) {
+		return fmt.Errorf("%s:%d: %w", LedgerName, n, err)
+	}
 	return nil
 }
 
@@ -757,7 +787,7 @@ func VerifyLedger(dir string, o *LedgerCheck) (LedgerReport, error) {
 	// the first break in ledger order is reported.
 	named := map[string]bool{}
 	for _, e := range entries {
-		named[recordName(e.ID)], named[cardName(e.ID)] = true, true
+		named[recordName(e.ID)], named[cardName(e.ID)], named[summaryName(e.ID)] = true, true, true
 	}
 	errs := make([]error, len(entries))
 	var next atomic.Int64

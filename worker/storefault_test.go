@@ -131,7 +131,12 @@ func TestStoreDiskFaults(t *testing.T) {
 	}
 	ledger, _ := os.ReadFile(filepath.Join(dir, LedgerName))
 	o := outs[1]
-	full := int64(len(o.rec) + len(o.card) + 40) // the files fit, 40 bytes of the ledger line do
+	m, err := metaFromJSON(o.rec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sum := summaryJSON(SummaryOf(o.id, m))
+	full := int64(len(o.rec) + len(o.card) + len(sum) + 40) // the files fit, 40 bytes of the ledger line do
 	tests := []struct {
 		name string
 		plan faultPlan

@@ -38,9 +38,15 @@ const (
 	maxRetryDelay       = time.Minute
 )
 
-// TaskRetention is how long a finished verification task stays readable
-// (GET /v1/jobs/{id}); afterwards the job's state is read from its record.
-const TaskRetention = 24 * time.Hour
+// TaskRetention is how long a finished verification task stays in Redis
+// (asynq keeps it whole, payload and all: a canonical card of up to 1 MiB).
+// What reads a finished task is GET /v1/jobs/{id}, for the attempts and
+// the last error, while a client polls the job; the verdict, and whether
+// a resubmission is the same job, come from the record and its summary,
+// which do not expire. An hour covers a polling client (matgate submit
+// waits 10 minutes by default) and keeps Redis from holding a day of
+// payloads that nothing reads.
+const TaskRetention = time.Hour
 
 // RetryDelay is the asynq RetryDelayFunc of both task types.
 func RetryDelay(n int, _ error, _ *asynq.Task) time.Duration {

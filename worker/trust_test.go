@@ -252,6 +252,7 @@ func TestCheckpoints(t *testing.T) {
 			rechain(t, dir, entries[:2])
 			os.Remove(filepath.Join(dir, recordName(ids[2])))
 			os.Remove(filepath.Join(dir, cardName(ids[2])))
+			os.Remove(filepath.Join(dir, summaryName(ids[2])))
 		}, nil, "the ledger has 2 line(s) only: it was cut back after the checkpoint"},
 		{"two lines swapped, chain recomputed", func(dir string) {
 			rechain(t, dir, []LedgerEntry{entries[1], entries[0], entries[2]})

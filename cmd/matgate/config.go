@@ -1,10 +1,13 @@
 package main
 
 import (
+	"crypto/x509"
 	"encoding/json"
 	"errors"
 	"fmt"
 	"net"
+	"net/url"
+	"os"
 	"reflect"
 	"slices"
 	"strings"
@@ -26,14 +29,17 @@ import (
 // every key.
 type Config struct {
 	Redis struct {
-		URL string `mapstructure:"url"` // redis://[user:password@]host:port/db
+		URL    string `mapstructure:"url"`     // redis://[user:password@]host:port/db, rediss:// for TLS
+		CAFile string `mapstructure:"ca_file"` // PEM CA certificates a rediss:// server's certificate must chain to; "": the system's
 	} `mapstructure:"redis"`
 	Server struct {
 		Listen          string        `mapstructure:"listen"`           // host:port of the HTTP API
-		MaxBody         int64         `mapstructure:"max_body"`         // largest card accepted, bytes
 		ReadTimeout     time.Duration `mapstructure:"read_timeout"`     // a whole request, body included
 		WriteTimeout    time.Duration `mapstructure:"write_timeout"`    // a whole response
 		ShutdownTimeout time.Duration `mapstructure:"shutdown_timeout"` // grace for requests and tasks on SIGTERM
+		MaxInFlight     int           `mapstructure:"max_in_flight"`    // card submissions and report renderings at once; 503 beyond
+		TokenRate       float64       `mapstructure:"token_rate"`       // requests a second per token, sustained; 429 beyond
+		TokenBurst      int           `mapstructure:"token_burst"`      // requests a token may make at once above the rate
 	} `mapstructure:"server"`
 	Store struct {
 		Dir                string        `mapstructure:"dir"`                 // the records directory (serve only)
@@ -59,8 +65,11 @@ type Config struct {
 // for keys it knows).
 var configDefaults = map[string]any{
 	"redis.url":                 "redis://127.0.0.1:6379/0",
+	"redis.ca_file":             "",
 	"server.listen":             "127.0.0.1:8080",
-	"server.max_body":           int64(schema.DefaultMaxBytes),
+	"server.max_in_flight":      worker.DefaultMaxInFlight,
+	"server.token_rate":         worker.DefaultTokenRate,
+	"server.token_burst":        worker.DefaultTokenBurst,
 	"server.read_timeout":       "30s",
 	"server.write_timeout":      "60s",
 	"server.shutdown_timeout":   "30s",
@@ -148,8 +157,17 @@ func (c *Config) Validate() error {
 	if _, _, err := net.SplitHostPort(c.Server.Listen); err != nil {
 		bad("server.listen", "%q: want host:port: %v", c.Server.Listen, err)
 	}
-	if c.Server.MaxBody <= 0 || c.Server.MaxBody > 64<<20 {
-		bad("server.max_body", "%d: want 1 to %d bytes", c.Server.MaxBody, 64<<20)
+	if c.Server.MaxInFlight < 1 || c.Server.MaxInFlight > 1024 {
+		bad("server.max_in_flight", "%d: want 1 to 1024", c.Server.MaxInFlight)
+	}
+	if !(c.Server.TokenRate > 0) || c.Server.TokenRate > 1e6 {
+		bad("server.token_rate", "%g: want a rate above 0 requests a second (up to 1e6)", c.Server.TokenRate)
+	}
+	if c.Server.TokenBurst < 1 || c.Server.TokenBurst > 1<<20 {
+		bad("server.token_burst", "%d: want 1 to %d requests", c.Server.TokenBurst, 1<<20)
+	}
+	if u, err := redis.ParseURL(c.Redis.URL); err == nil && c.Redis.CAFile != "" && u.TLSConfig == nil {
+		bad("redis.ca_file", "set, but redis.url %q is not rediss:// (TLS)", redactURL(c.Redis.URL))
 	}
 	for _, d := range []struct {
 		key string
@@ -192,5 +210,25 @@ func (c *Config) redisClient() (*redis.Client, error) {
 		return nil, invalid("redis.url: %v", err)
 	}
 	o.ContextTimeoutEnabled = true
+	if c.Redis.CAFile != "" {
+		pem, err := os.ReadFile(c.Redis.CAFile)
+		if err != nil {
+			return nil, invalid("redis.ca_file: %v", err)
+		}
+		pool := x509.NewCertPool()
+		if !pool.AppendCertsFromPEM(pem) {
+			return nil, invalid("redis.ca_file %s: no PEM certificate in it", c.Redis.CAFile)
+		}
+		o.TLSConfig.RootCAs = pool // ParseURL set TLSConfig for rediss:// (Validate checks the scheme)
+	}
 	return redis.NewClient(o), nil
+}
+
+// redactURL drops the password of a Redis URL for a message.
+func redactURL(s string) string {
+	u, err := url.Parse(s)
+	if err != nil {
+		return "(unparsable URL)"
+	}
+	return u.Redacted()
 }

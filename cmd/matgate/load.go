@@ -187,6 +187,8 @@ func readLimited(e *env, name string, limit int64) ([]byte, error) {
 
 // referenceReader reads reference curves relative to the card's directory,
 // confined to it: a card cannot name a file outside its own folder tree.
+// It reads at most one byte past convert.MaxReferenceBytes, so that
+// convert refuses a file above the limit without holding it whole.
 func referenceReader(dir string) func(string) ([]byte, error) {
 	return func(name string) ([]byte, error) {
 		root, err := os.OpenRoot(dir)
@@ -198,12 +200,14 @@ func referenceReader(dir string) func(string) ([]byte, error) {
 		if err != nil {
 			return nil, err
 		}
-		if !st.Mode().IsRegular() { // a FIFO or device would block the read
+		if !st.Mode().IsRegular() { // a FIFO or device would block the open or the read
 			return nil, fmt.Errorf("%s is not a regular file (%v)", name, st.Mode().Type())
 		}
-		if st.Size() > schema.DefaultMaxBytes*16 {
-			return nil, fmt.Errorf("%s is %d bytes, above the %d-byte limit for a reference curve", name, st.Size(), schema.DefaultMaxBytes*16)
+		f, err := root.Open(name)
+		if err != nil {
+			return nil, err
 		}
-		return root.ReadFile(name)
+		defer f.Close()
+		return io.ReadAll(io.LimitReader(f, convert.MaxReferenceBytes+1))
 	}
 }

@@ -76,7 +76,8 @@ func serve(ctx context.Context, e *env, cfg *Config, ready func(addr string)) er
 	api, err := worker.NewAPI(worker.APIConfig{
 		Redis: rdb, Queue: client, Inspector: insp, Store: store, Metrics: metrics,
 		Tokens: cfg.Auth.Tokens, Settings: worker.Settings{ToolVersion: toolOf().Version},
-		Budget: cfg.Verify.Budget, MaxBody: cfg.Server.MaxBody, DefaultProfile: cfg.Verify.Profile, Log: log,
+		Budget: cfg.Verify.Budget, DefaultProfile: cfg.Verify.Profile, Log: log,
+		MaxInFlight: cfg.Server.MaxInFlight, TokenRate: cfg.Server.TokenRate, TokenBurst: cfg.Server.TokenBurst,
 	})
 	if err != nil {
 		return invalid("configuration: %v", err)

@@ -112,6 +112,7 @@ type submitItem struct {
 	digest  string // the card digest submit computed
 	neutral []byte // the neutral card submit computed
 	job     string // "" when not submitted
+	l       loaded // the card as read and as normalized
 }
 
 type submitter struct {
@@ -136,7 +137,7 @@ func (s *submitter) run(ctx context.Context, names []string) error {
 			it.o.Status = "invalid"
 			continue
 		}
-		it.o.ID, it.o.Revision, it.digest = l.card.ID, l.card.Revision, l.card.Digest
+		it.o.ID, it.o.Revision, it.digest, it.l = l.card.ID, l.card.Revision, l.card.Digest, l
 		if cs, _ := lib.Add(worker.RefOf(l.doc, l.card)); len(cs) > 0 { // no store: no error
 			for _, c := range cs {
 				it.o.Problems = append(it.o.Problems, c.Diagnostic().String())
@@ -177,7 +178,8 @@ func (it *submitItem) fail(err error) {
 
 // submission returns what to send for a card: its own bytes when it
 // stands alone, so the server reads what the author wrote; its canonical
-// form (reference curves inline) when it names files or came from stdin.
+// encoding (compact, reference curves inline) when it names files or came
+// from stdin, which convert.Prepare has held to the size rule of a card.
 func submission(e *env, name string, l loaded) ([]byte, string, error) {
 	files := false
 	if v := l.doc.Card.Verification; v != nil {
@@ -195,7 +197,7 @@ func submission(e *env, name string, l loaded) ([]byte, string, error) {
 		}
 		return b, "application/yaml", nil
 	}
-	b, err := convert.Indented(l.card)
+	b, err := convert.Canonical(l.card)
 	return b, "application/json", err
 }
 
@@ -300,6 +302,48 @@ func (s *submitter) download(ctx context.Context, it *submitItem) error {
 		it.o.Outputs = append(it.o.Outputs, f.path)
 	}
 	it.o.fromRecord(r)
+	if len(r.Findings) > 0 {
+		// The record words its findings canonically (Pa, plastic
+		// moduli); print them as verify does, in the card's own terms.
+		if diags, err := worker.Diagnoses(ctx, it.l.card); err == nil {
+			it.o.wordFindings(it.l.doc.Card, diags)
+		}
+	}
+	return s.compare(ctx, it)
+}
+
+// compare sets the outcome's comparison with the latest stored revision of
+// the card's id below its own, as verify --store does with its records
+// directory: the previous neutral card comes from the server's listing
+// and must have the digest its record names; the comparison runs here.
+func (s *submitter) compare(ctx context.Context, it *submitItem) error {
+	sums, err := s.client.Records(ctx, it.o.ID)
+	if err != nil {
+		return fmt.Errorf("stored revisions of %s: %w", it.o.ID, err)
+	}
+	revs := make([]int, len(sums))
+	for i, sum := range sums {
+		revs[i] = sum.Card.Revision
+	}
+	i := worker.PreviousOf(revs, it.o.Revision)
+	if i < 0 {
+		return nil
+	}
+	if !worker.ValidID(sums[i].ID) {
+		return fmt.Errorf("stored revisions of %s: malformed record id %q", it.o.ID, sums[i].ID)
+	}
+	b, err := s.client.Get(ctx, "/v1/records/"+sums[i].ID+"/card")
+	if err != nil {
+		return fmt.Errorf("stored card of %s r%d: %w", it.o.ID, sums[i].Card.Revision, err)
+	}
+	prev, err := worker.DecodeStoredCard(b, it.o.ID, sums[i].Card.Digest)
+	if err != nil {
+		return err
+	}
+	if it.o.Comparison, err = worker.Compare(ctx, prev, it.l.card); err != nil {
+		return err
+	}
+	it.o.Comparison.New.File = it.o.File
 	return nil
 }
 

@@ -107,6 +107,8 @@ func TestSubmitTrustsNothing(t *testing.T) {
 			}
 			w.WriteHeader(http.StatusAccepted)
 			json.NewEncoder(w).Encode(worker.Job{ID: id, State: worker.JobQueued})
+		case r.URL.Path == "/v1/records": // no earlier revisions to compare with
+			json.NewEncoder(w).Encode(worker.Listing{Records: []worker.Summary{}})
 		case strings.HasPrefix(r.URL.Path, "/v1/jobs/"):
 			id := strings.TrimPrefix(r.URL.Path, "/v1/jobs/")
 			json.NewEncoder(w).Encode(worker.Job{ID: id, State: worker.JobDone, Stored: true})

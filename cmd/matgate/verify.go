@@ -14,6 +14,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"matgate/checks"
+	"matgate/schema"
 	"matgate/worker"
 	"matgate/worker/report"
 )
@@ -263,12 +264,7 @@ func verifyOne(cmd *cobra.Command, e *env, name string, opt verifyOptions) verif
 		}
 	}
 	o.fromRecord(out.Record)
-	// The record's findings are the diagnoses in order, worded
-	// canonically; the console words them as the card does.
-	w := worker.Wording(l.doc.Card)
-	for i, d := range out.Diagnoses {
-		o.Findings[i].Text = d.Describe(w)
-	}
+	o.wordFindings(l.doc.Card, out.Diagnoses)
 	files := map[string][]byte{
 		base + ".record.json": rec,
 		base + ".card.json":   out.Card,
@@ -292,6 +288,27 @@ func verifyOne(cmd *cobra.Command, e *env, name string, opt verifyOptions) verif
 		o.Outputs = append(o.Outputs, filepath.Join(opt.storeDir, id[:2], id+".record.json"))
 	}
 	return o
+}
+
+// wordFindings words the outcome's findings as the card is written (its
+// stress unit, its linear terms as tangent or plastic moduli) rather than
+// canonically, as the record has them: diags are the card's diagnoses,
+// which the record's findings are in order. verify and submit print the
+// same lines through it. Diagnoses that are not the findings (another
+// tool version's record) leave the record's wording.
+func (o *verifyOutcome) wordFindings(written *schema.Card, diags []checks.Diagnosis) {
+	if len(diags) != len(o.Findings) {
+		return
+	}
+	for i, d := range diags {
+		if f := d.Finding(); f.Case != o.Findings[i].Case || f.Check != o.Findings[i].Check || string(f.Misreading) != o.Findings[i].Misreading {
+			return
+		}
+	}
+	w := worker.Wording(written)
+	for i, d := range diags {
+		o.Findings[i].Text = d.Describe(w)
+	}
 }
 
 func (o verifyOutcome) print(e *env) {
