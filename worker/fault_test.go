@@ -243,6 +243,7 @@ func TestWorkerShutdownRequeues(t *testing.T) {
 	if err := first.Start(mux); err != nil {
 		t.Fatal(err)
 	}
+	t.Cleanup(first.Shutdown) // before the Redis client closes, on any failure below
 	for deadline := time.Now().Add(30 * time.Second); ; time.Sleep(20 * time.Millisecond) {
 		info, err := s.insp.GetTaskInfo(QueueVerify, id)
 		if err == nil && info.State == asynq.TaskStateActive {

@@ -156,6 +156,9 @@ func TestForgedOutputsRefused(t *testing.T) {
 	if err := compromised.Start(mux); err != nil {
 		t.Fatal(err)
 	}
+	// Shut down before the Redis client closes whatever happens below:
+	// an asynq server whose client is closed under it panics.
+	t.Cleanup(compromised.Shutdown)
 	if resp, _ := s.submitFile(t, file); resp.StatusCode != http.StatusAccepted {
 		t.Fatalf("submit to the compromised worker: %d", resp.StatusCode)
 	}
