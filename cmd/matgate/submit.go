@@ -85,7 +85,7 @@ references; it does not show fitness for design.`,
 			var sum verifySummary
 			var suites []junitSuite
 			for _, it := range s.items {
-				sum.add(it.o)
+				sum.add(it.o, false)
 				it.o.print(e)
 				suites = append(suites, it.o.junit())
 			}

@@ -113,9 +113,14 @@ references; it does not show fitness for design.`,
 					if format == "text" {
 						o.print(e)
 					}
-					suites = append(suites, o.junit())
-					o.record = nil // JUnit has what it needs; hold no record
-					sum.add(o)
+					// Hold per card only what an output asked for needs
+					// (JUnit, the summary, the JSON listing), so that
+					// memory stays flat over a library.
+					if junitPath != "" {
+						suites = append(suites, o.junit())
+					}
+					o.record = nil
+					sum.add(o, summaryPath != "" || format == "json")
 					return nil
 				})
 			if err != nil {
@@ -350,8 +355,12 @@ type verifySummary struct {
 	outcomes                                  []verifyOutcome
 }
 
-func (s *verifySummary) add(o verifyOutcome) {
-	s.outcomes = append(s.outcomes, o)
+// add counts o, and keeps it when keep is set (for the summary and the
+// JSON listing).
+func (s *verifySummary) add(o verifyOutcome, keep bool) {
+	if keep {
+		s.outcomes = append(s.outcomes, o)
+	}
 	if o.Reused != "" {
 		s.reused++
 	}

@@ -56,40 +56,6 @@ func demoCards(t *testing.T) []string {
 	return files
 }
 
-// misreadCard is a card (MPa, E 70000, yield 250) whose linear term is
-// written as tangent_modulus 14000 while its solver curve was computed
-// with 14000 as the plastic modulus, along the bilinear closed form
-// sigma = sigmaY + Et (eps - sigmaY/E), Et = E H/(E + H) (Lubliner,
-// Plasticity Theory, 1990, sec. 3.3).
-func misreadCard() []byte {
-	const E, sy, H = 70000.0, 250.0, 14000.0
-	Et := E * H / (E + H)
-	var ps []string
-	for k := 0; k <= 30; k++ {
-		eps := 0.001 * float64(k)
-		s := E * eps
-		if eps > sy/E {
-			s = sy + Et*(eps-sy/E)
-		}
-		ps = append(ps, fmt.Sprintf("[%g, %s]", eps, strconv.FormatFloat(s, 'g', -1, 64)))
-	}
-	return []byte(`format: matgate.card/1
-id: misread
-revision: 1
-title: Test card for the report of a failed check
-source: Invented for a matgate test; the reference is a closed form, not data.
-units: {stress: MPa}
-elastic: {youngs_modulus: 70000, poisson_ratio: 0.3}
-plasticity:
-  yield_stress: 250
-  kinematic:
-    - {model: linear, tangent_modulus: 14000}
-verification:
-  references:
-    - {name: solver-tension, kind: solver, points: [` + strings.Join(ps, ", ") + `]}
-`)
-}
-
 // TestRenderDemoCards: the report of every demo card states the verdict,
 // the count of checks, every case, and the caution.
 func TestRenderDemoCards(t *testing.T) {
@@ -169,7 +135,11 @@ func TestRenderCardUnits(t *testing.T) {
 // = 70000 x 14000 / 84000 = 11667 MPa (Lubliner, Plasticity Theory, 1990,
 // sec. 3.3).
 func TestRenderFailedCheck(t *testing.T) {
-	_, out, page := verified(t, "misread.yaml", misreadCard())
+	misread, err := os.ReadFile("../../testdata/misread/gutter-misread.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, out, page := verified(t, "gutter-misread.yaml", misread)
 	if out.Record.Verdict != "fail" {
 		t.Fatalf("the misread card passes; the test needs a failing card")
 	}
