@@ -26,7 +26,7 @@ type admitted struct {
 // admit checks the outputs of job id as they came out of Redis, before
 // they are stored, and signs the record with key (nil: not signed):
 //
-//   - the record reads strictly as matgate.record/1 and its digest is that
+//   - the record reads strictly (checks.ParseRecord) and its digest is that
 //     of its content (an edited verdict, case or check that was not
 //     followed by a new digest);
 //   - its verdict is the one its checks give (pass when every check
