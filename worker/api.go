@@ -516,6 +516,16 @@ func (a *API) report(w http.ResponseWriter, r *http.Request) {
 	if !ok {
 		return
 	}
+	// The record holds the card in SI, not the unit it was written in: a
+	// reader may ask for the stresses in a unit of theirs (?unit=ksi).
+	written := report.Written{Asked: true}
+	if u := r.URL.Query().Get("unit"); u != "" {
+		if _, err := convert.StressFactor(u); err != nil {
+			problem(w, r, http.StatusBadRequest, "unknown unit", fmt.Sprintf("unit %q: use Pa, kPa, MPa, GPa, psi or ksi", u), nil)
+			return
+		}
+		written.Stress = u
+	}
 	b, _, err := a.readOutput(r.Context(), id, false)
 	if errors.Is(err, ErrNotFound) {
 		problem(w, r, http.StatusNotFound, "no such record", "no record has id "+id, nil)
@@ -527,7 +537,7 @@ func (a *API) report(w http.ResponseWriter, r *http.Request) {
 	}
 	rec, err := checks.ParseRecord(b)
 	if err == nil {
-		b, err = report.Render(rec, report.Written{})
+		b, err = report.Render(rec, written)
 	}
 	if err != nil {
 		problem(w, r, http.StatusInternalServerError, "report failed", err.Error(), nil)

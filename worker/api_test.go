@@ -173,6 +173,19 @@ func TestAPIEndToEnd(t *testing.T) {
 		if resp.StatusCode != 200 || !strings.Contains(string(html), "<svg") || !strings.HasPrefix(resp.Header.Get("Content-Type"), "text/html") {
 			t.Errorf("%s: report %d %q", f, resp.StatusCode, resp.Header.Get("Content-Type"))
 		}
+		// The record does not hold the card's unit: without ?unit= the
+		// report says so and prints MPa; with it, the unit asked for,
+		// said to be asked for, not written.
+		if !strings.Contains(string(html), "is not in the record") || !strings.Contains(string(html), "stress (MPa)") {
+			t.Errorf("%s: report without ?unit= does not print MPa and say the card's unit is unknown", f)
+		}
+		resp, html = s.do(t, "GET", "/v1/records/"+j.ID+"/report?unit=ksi", secretRead, "", nil)
+		if resp.StatusCode != 200 || !strings.Contains(string(html), "as asked for") || !strings.Contains(string(html), "stress (ksi)") || strings.Contains(string(html), "stress (MPa)") {
+			t.Errorf("%s: report ?unit=ksi: %d, want stresses in ksi said to be asked for", f, resp.StatusCode)
+		}
+		if resp, _ := s.do(t, "GET", "/v1/records/"+j.ID+"/report?unit=furlong", secretRead, "", nil); resp.StatusCode != http.StatusBadRequest {
+			t.Errorf("%s: report ?unit=furlong: %d, want 400", f, resp.StatusCode)
+		}
 		resp, again := s.submitFile(t, path)
 		if resp.StatusCode != http.StatusSeeOther || resp.Header.Get("Location") != "/v1/records/"+j.ID || again.ID != j.ID {
 			t.Errorf("%s: resubmission %d Location %q", f, resp.StatusCode, resp.Header.Get("Location"))

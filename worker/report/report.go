@@ -15,6 +15,9 @@ import (
 type Written struct {
 	// Stress is the card's stress unit (Pa, kPa, MPa, GPa, psi, ksi).
 	Stress string
+	// Asked says that Stress is the unit a reader asked for, not one the
+	// caller knows to be the card's (the service's report, ?unit=).
+	Asked bool
 	// Findings are the record's findings worded in the card's own terms
 	// (see checks.Diagnosis.Describe), one per Record.Findings and in that
 	// order; nil prints the record's own wording (canonical, Pa).
@@ -97,6 +100,7 @@ type caseView struct {
 
 func newView(rec *checks.Record, w Written) (*view, error) {
 	u := newDisplay(w.Stress)
+	u.Asked = u.Known && w.Asked
 	card, err := readCard(rec.Card.Canonical, u)
 	if err != nil {
 		return nil, err

@@ -85,7 +85,7 @@ td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
 <tr><th>title</th><td>{{.Card.Title}}</td></tr>
 <tr><th>source</th><td>{{.Card.Source}}</td></tr>
 {{with .Card.Temperature}}<tr><th>temperature</th><td>{{.}}</td></tr>{{end}}
-<tr><th>stress unit</th><td>{{.Unit.Unit}}{{if not .Unit.Known}} <span class="muted small">(the unit the card was written in is not in the record; its canonical form is in Pa)</span>{{else}} <span class="muted small">(as written; the record holds SI)</span>{{end}}</td></tr>
+<tr><th>stress unit</th><td>{{.Unit.Unit}}{{if not .Unit.Known}} <span class="muted small">(the unit the card was written in is not in the record; its canonical form is in Pa)</span>{{else if .Unit.Asked}} <span class="muted small">(as asked for; the record holds SI and not the unit the card was written in)</span>{{else}} <span class="muted small">(as written; the record holds SI)</span>{{end}}</td></tr>
 </table>
 <h3>Parameters</h3>
 <table class="params">

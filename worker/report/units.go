@@ -17,7 +17,8 @@ const fallbackUnit = "MPa"
 type display struct {
 	Unit  string  // stress unit name, e.g. "ksi"
 	Pa    float64 // pascals per unit
-	Known bool    // Unit is the card's own (false: fallbackUnit)
+	Known bool    // Unit is the card's own, or one asked for (false: fallbackUnit)
+	Asked bool    // Unit is one a reader asked for (Written.Asked)
 }
 
 // newDisplay returns the display of a card written in unit ("" or an
