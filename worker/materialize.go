@@ -148,8 +148,11 @@ func (m *Materializer) removeVerifyTask(ctx context.Context, id string) {
 		if err == nil || errors.Is(err, asynq.ErrTaskNotFound) || errors.Is(err, asynq.ErrQueueNotFound) {
 			return
 		}
-		info, ierr := m.Inspector.GetTaskInfo(QueueVerify, id)
-		if ierr != nil || info.State != asynq.TaskStateActive || time.Now().After(deadline) {
+		// The task may have left the active state between the two calls
+		// (the worker returned): then the next round deletes it.
+		if _, ierr := m.Inspector.GetTaskInfo(QueueVerify, id); errors.Is(ierr, asynq.ErrTaskNotFound) {
+			return
+		} else if ierr != nil || time.Now().After(deadline) {
 			m.log().Warn("store: the refused job's verification task stays; a resubmission answers with it", "id", id, "err", err)
 			return
 		}
